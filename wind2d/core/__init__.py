@@ -1,0 +1,1 @@
+"""The Godunov step: EOS, reconstruction, Riemann solvers, CT, geometry, integrator."""

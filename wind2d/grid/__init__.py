@@ -1,0 +1,1 @@
+"""Mesh geometry (and, under MPI, tiles)."""

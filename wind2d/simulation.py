@@ -1,0 +1,288 @@
+"""The Python API: build and advance a simulation with no files.
+
+Example
+-------
+>>> from wind2d import Simulation
+>>> sim = Simulation(geometry="cartesian", x1=(0, 1, 64), x2=(0, 1, 64),
+...                  boundaries={"x_low": "periodic", "x_high": "periodic",
+...                              "y_low": "periodic", "y_high": "periodic"})
+>>> sim.set_primitive(rho=1.0, p=lambda x, y: 1.0 + 0.1 * (x < 0.5))
+>>> sim.advance(0.1)
+>>> rho = sim.field("rho")          # interior array [j, i]
+
+Everything is in code units; field in Heaviside-Lorentz units (B^2/2 is the
+magnetic pressure).
+"""
+from __future__ import annotations
+
+import math
+from typing import Callable
+
+import numpy as np
+
+from .boundaries import Boundaries
+from .core import ct
+from .core.eos import IdealGas, Isothermal
+from .core.floors import COUNTER_NAMES, prim_to_cons
+from .core.integrator import Integrator
+from .core.reconstruct import LIMITERS, METHODS
+from .core.riemann import GAS_ONLY, IDEAL_ONLY, MHD_ONLY, SOLVERS
+from .errors import ParameterError
+from .grid.mesh import Mesh
+from .state import IDN, IPR, IB1, IB2, VariableMap, State
+
+
+def _choice(name, value, allowed):
+    if value not in allowed:
+        raise ParameterError(f"{name} = {value!r}: allowed values are {', '.join(allowed)}")
+
+
+class Simulation:
+    """One run: mesh, state, boundaries and the Godunov integrator.
+
+    Parameters
+    ----------
+    geometry : {"cylindrical", "cartesian"}
+    x1, x2 : tuple (lo, hi, cells[, stretch])
+        Axis 1 is R (or x), axis 2 is z (or y).  ``stretch`` is the constant
+        ratio of neighbouring cell widths (1 = uniform).
+    boundaries : dict
+        Kind per edge, e.g. ``{"R_low": "axis", "R_high": "outflow", "z_low":
+        "periodic", "z_high": "periodic"}``; a fixed edge is
+        ``{"kind": "fixed", "state": {"rho": 1, "p": 1, ...}}``.
+    eos : IdealGas or Isothermal, optional
+        Default ``IdealGas(gamma)``.
+    gamma : float
+        Adiabatic index of the default ideal-gas EOS.
+    mhd : bool
+        Evolve the magnetic field.  A run without field pays nothing for MHD.
+    riemann : {"hlle", "hllc", "hlld"}
+    reconstruction : {"plm"}
+    limiter : {"mc", "vanleer", "minmod", "first_order"}
+    courant : float in (0, 1]
+    density_floor, pressure_floor : float
+        Positivity floors in code units.
+    scalars : sequence of str
+        Names of passive scalars advected with the mass flux.
+    """
+
+    def __init__(self, geometry: str, x1, x2, boundaries: dict, *, eos=None,
+                 gamma: float = 5.0 / 3.0, mhd: bool = False, riemann: str = "hllc",
+                 reconstruction: str = "plm", limiter: str = "mc", courant: float = 0.4,
+                 density_floor: float = 1e-12, pressure_floor: float = 1e-15,
+                 scalars=()):
+        eos = IdealGas(gamma) if eos is None else eos
+        if not isinstance(eos, (IdealGas, Isothermal)):
+            raise ParameterError("eos: allowed values are IdealGas(gamma) or "
+                                 "Isothermal(sound_speed)")
+        _choice("riemann", riemann, tuple(SOLVERS))
+        _choice("reconstruction", reconstruction, METHODS)
+        _choice("limiter", limiter, tuple(LIMITERS))
+        if riemann in GAS_ONLY and mhd:
+            raise ParameterError(f"riemann = {riemann!r} is for gas without field; with "
+                                 "mhd use one of " + ", ".join(s for s in SOLVERS
+                                                                if s not in GAS_ONLY))
+        if riemann in MHD_ONLY and not mhd:
+            raise ParameterError(f"riemann = {riemann!r} needs a magnetic field; without "
+                                 "mhd use one of " + ", ".join(s for s in SOLVERS
+                                                                if s not in MHD_ONLY))
+        if riemann in IDEAL_ONLY and eos.isothermal:
+            raise ParameterError(f"riemann = {riemann!r} needs the ideal-gas EOS; with the "
+                                 "isothermal EOS use one of " + ", ".join(
+                                     s for s in SOLVERS if s not in IDEAL_ONLY))
+        if not (isinstance(courant, (int, float)) and 0.0 < courant <= 1.0):
+            raise ParameterError(f"courant = {courant!r}: allowed values are 0 < courant <= 1")
+        for name, val in (("density_floor", density_floor), ("pressure_floor", pressure_floor)):
+            if not (isinstance(val, (int, float)) and math.isfinite(val) and val >= 0):
+                raise ParameterError(f"{name} = {val!r}: must be a finite number >= 0")
+        names0 = ("R", "z") if geometry == "cylindrical" else ("x", "y")
+        from .boundaries import edge_names
+        en = edge_names(names0)
+        kinds = {en.get(k, k): (v if isinstance(v, str) else v.get("kind"))
+                 for k, v in boundaries.items()}
+        self.mesh = Mesh(geometry, x1, x2, ng=2,
+                         periodic1=kinds.get("x1_lo") == "periodic",
+                         periodic2=kinds.get("x2_lo") == "periodic")
+        self.eos = eos
+        self.varmap = VariableMap(geometry, mhd, tuple(scalars))
+        self.state = State(self.varmap.nvar, self.mesh.nt2, self.mesh.nt1, mhd)
+        self.boundaries = Boundaries(self.mesh, boundaries, self.varmap, self._state_vector)
+        self.integrator = Integrator(self.mesh, self.varmap, eos, self.boundaries,
+                                     SOLVERS[riemann], LIMITERS[limiter], float(courant),
+                                     density_floor, pressure_floor)
+        self.options = dict(geometry=geometry, riemann=riemann, reconstruction=reconstruction,
+                            limiter=limiter, courant=courant, mhd=mhd)
+        self.t = 0.0
+        self.nstep = 0
+        self.dt_last = 0.0
+        self._W0 = np.zeros((self.varmap.nvar, self.mesh.n2, self.mesh.n1))
+        self._W0[IDN] = 1.0
+        self._W0[IPR] = 1.0 if not eos.isothermal else eos.cs2
+
+    # --------------------------------------------------------------- setup
+    def _state_vector(self, values: dict) -> np.ndarray:
+        w = np.zeros(self.varmap.nvar)
+        for k, v in values.items():
+            if k not in self.varmap:
+                raise ParameterError(f"state: unknown variable {k!r}; allowed: "
+                                     + ", ".join(self.varmap.primitive_names))
+            w[self.varmap.index[k]] = float(v)
+        if w[IDN] <= 0:
+            raise ParameterError("state: 'rho' must be given and positive")
+        if self.eos.isothermal:
+            w[IPR] = w[IDN] * self.eos.cs2
+        return w
+
+    def _evaluate(self, value, x1, x2) -> np.ndarray:
+        if callable(value):
+            value = value(x1, x2)
+        return np.broadcast_to(np.asarray(value, dtype=np.float64), x1.shape)
+
+    def set_primitive(self, **fields) -> None:
+        """Set primitive fields on the interior cells.
+
+        Each value is a number, an array ``[n2, n1]`` or a callable ``f(x1, x2)``
+        of the cell-centre coordinates (volume centroid in R).  Names are those
+        of :attr:`field_names` except the poloidal field components, which come
+        from :meth:`set_field` (face-centred, divergence-free).
+        """
+        x1, x2 = self.mesh.centres()
+        for k, v in fields.items():
+            if k not in self.varmap:
+                raise ParameterError(f"set_primitive: unknown field {k!r}; allowed: "
+                                     + ", ".join(self.varmap.primitive_names))
+            idx = self.varmap.index[k]
+            if self.varmap.mhd and idx in (IB1, IB2):
+                raise ParameterError(f"set_primitive: {k!r} is face-centred; use set_field")
+            self._W0[idx] = self._evaluate(v, x1, x2)
+        self._sync()
+
+    def set_field(self, potential: Callable | None = None, *, b1=None, b2=None) -> None:
+        """Set the face-centred poloidal field.
+
+        ``potential(x1, x2)`` is the out-of-plane vector potential on cell
+        corners: A_phi in cylindrical geometry (B_R = -dA/dz,
+        B_z = (1/R) d(R A)/dR), A_z in Cartesian (B_x = dA/dy, B_y = -dA/dx).
+        The discrete field is then divergence-free to round-off.  Alternatively
+        ``b1(x1_face, x2_centre)`` and ``b2(x1_centre, x2_face)`` give the face
+        values directly (for uniform fields).
+        """
+        m, st = self.mesh, self.state
+        if not self.varmap.mhd:
+            raise ParameterError("set_field: this simulation was built with mhd=False")
+        js, je, is_, ie = m.js, m.je, m.is_, m.ie
+        if potential is not None:
+            X1, X2 = np.meshgrid(m.x1f[is_:ie + 1], m.x2f[js:je + 1])
+            A = np.asarray(potential(X1, X2), dtype=np.float64) * np.ones_like(X1)
+            if not m.cylindrical:
+                A = -A      # internal third axis: E3 = v1 B2 - v2 B1 = -E_z
+            dz = m.dx2[js:je][:, None]
+            st.b1[js:je, is_:ie + 1] = -(A[1:, :] - A[:-1, :]) / dz
+            a = m.area1[is_:ie + 1][None, :]
+            st.b2[js:je + 1, is_:ie] = (a[:, 1:] * A[:, 1:] - a[:, :-1] * A[:, :-1]) \
+                / m.vol1[is_:ie][None, :]
+        if b1 is not None:
+            X1, X2 = np.meshgrid(m.x1f[is_:ie + 1], m.x2c[js:je])
+            st.b1[js:je, is_:ie + 1] = self._evaluate(b1, X1, X2)
+        if b2 is not None:
+            X1, X2 = np.meshgrid(m.x1c[is_:ie], m.x2f[js:je + 1])
+            st.b2[js:je + 1, is_:ie] = self._evaluate(b2, X1, X2)
+        if m.has_axis:
+            st.b1[:, is_] = 0.0
+        self._sync()
+
+    def _sync(self) -> None:
+        m, vm, st = self.mesh, self.varmap, self.state
+        W = self.integrator.W
+        W[:, m.js:m.je, m.is_:m.ie] = self._W0
+        if vm.mhd:
+            ct.cell_centred_field(st.b1, st.b2, W, m.area1, m.js, m.je, m.is_, m.ie)
+        prim_to_cons(W, st.U, self.eos.gamma, self.eos.isothermal, vm.mhd, vm.nhydro,
+                     m.js, m.je, m.is_, m.ie)
+        self.integrator.primitives(st)
+
+    # --------------------------------------------------------------- running
+    def step(self, dt: float | None = None) -> float:
+        """Advance one step (CFL step unless ``dt`` is given); returns the step used."""
+        if dt is None:
+            dt = self.integrator.max_dt()
+        self.integrator.step(self.state, dt)
+        self.t += dt
+        self.nstep += 1
+        self.dt_last = dt
+        return dt
+
+    def advance(self, t_end: float, max_steps: int | None = None) -> int:
+        """Advance to time ``t_end`` (the last step is shortened to land on it).
+
+        Returns the number of steps taken.  Raises
+        :class:`~wind2d.errors.NonFiniteStateError` if the state goes bad.
+        """
+        n = 0
+        while self.t < t_end * (1 - 1e-14) and (max_steps is None or n < max_steps):
+            dt = self.integrator.max_dt()
+            if self.t + dt > t_end:
+                dt = t_end - self.t
+            self.step(dt)
+            if self.t >= t_end * (1 - 1e-14):
+                self.t = t_end
+            n += 1
+        self.integrator.max_dt()     # checks the final state is finite
+        return n
+
+    # --------------------------------------------------------------- output
+    @property
+    def field_names(self) -> tuple[str, ...]:
+        return self.varmap.primitive_names
+
+    def field(self, name: str) -> np.ndarray:
+        """Interior primitive field ``[n2, n1]`` (a copy), by name."""
+        if name not in self.varmap:
+            raise ParameterError(f"field: unknown name {name!r}; allowed: "
+                                 + ", ".join(self.varmap.primitive_names))
+        m = self.mesh
+        return self.integrator.W[self.varmap.index[name], m.js:m.je, m.is_:m.ie].copy()
+
+    def fields(self) -> dict[str, np.ndarray]:
+        """All primitive fields plus the coordinates ``x1``, ``x2`` (cell centres)."""
+        out = {n: self.field(n) for n in self.varmap.primitive_names}
+        a, b = self.mesh.axis_names
+        out[a], out[b] = self.mesh.centres()
+        return out
+
+    def conserved(self) -> np.ndarray:
+        """Interior conserved array ``[nvar, n2, n1]`` (a copy)."""
+        m = self.mesh
+        return self.state.U[:, m.js:m.je, m.is_:m.ie].copy()
+
+    def totals(self) -> dict[str, float]:
+        """Volume integrals (per radian in cylindrical geometry) of the conserved
+        quantities: mass, the two in-plane momenta, angular momentum (cylindrical:
+        sum V R_c rho v_phi; Cartesian: the third momentum) and total energy."""
+        m = self.mesh
+        V = m.cell_volumes()
+        U = self.conserved()
+        a, b = m.axis_names
+        out = {"mass": float(np.sum(V * U[0])), f"momentum_{a}": float(np.sum(V * U[1])),
+               f"momentum_{b}": float(np.sum(V * U[2]))}
+        if m.cylindrical:
+            out["angular_momentum"] = float(np.sum(V * m.h1c[m.is_:m.ie][None, :] * U[3]))
+        else:
+            out["momentum_z"] = float(np.sum(V * U[3]))
+        if not self.eos.isothermal:
+            out["energy"] = float(np.sum(V * U[4]))
+        return out
+
+    def divergence(self) -> np.ndarray:
+        """Discrete div B of the interior cells (zeros without field)."""
+        m = self.mesh
+        out = np.zeros((m.n2, m.n1))
+        if self.varmap.mhd:
+            ct.divergence(self.state.b1, self.state.b2, m.area1, m.vol1, m.dx2,
+                          m.js, m.je, m.is_, m.ie, out)
+        return out
+
+    @property
+    def counters(self) -> dict[str, int]:
+        """Cumulative positivity counters (fallback cells, floor activations)."""
+        return {n: int(c) for n, c in zip(COUNTER_NAMES, self.integrator.counters)}
