@@ -76,10 +76,11 @@ class Boundaries:
             if kind == "fixed":
                 self.fixed_w[e] = state_vector(st)
         mhd = self.mhd
+        # variables that change sign in mirrored ghost cells
         self.flips = {
-            "x1": (np.array([IV1, IB1] if mhd else [IV1], dtype=np.int64),
-                   np.array([IV1, IV3, IB1, IB3] if mhd else [IV1, IV3], dtype=np.int64)),
-            "x2": (np.array([IV2, IB2] if mhd else [IV2], dtype=np.int64), None),
+            "x1": np.array([IV1, IB2, IB3] if mhd else [IV1], dtype=np.int64),
+            "x2": np.array([IV2, IB1, IB3] if mhd else [IV2], dtype=np.int64),
+            "axis": np.array([IV1, IV3, IB1, IB3] if mhd else [IV1, IV3], dtype=np.int64),
         }
         self.periodic1 = self.edges["x1_lo"][0] == "periodic"
         self.periodic2 = self.edges["x2_lo"][0] == "periodic"
@@ -93,9 +94,9 @@ class Boundaries:
             if side == 0:
                 periodic(W, bn, bt, ng, lo, hi, mhd)
         elif kind == "reflecting":
-            mirror(W, bn, bt, side, ng, lo, hi, self.flips[f"x{axis}"][0], True, False, mhd)
+            mirror(W, bn, bt, side, ng, lo, hi, self.flips[f"x{axis}"], False, True, False, mhd)
         elif kind == "axis":
-            mirror(W, bn, bt, side, ng, lo, hi, self.flips["x1"][1], True, True, mhd)
+            mirror(W, bn, bt, side, ng, lo, hi, self.flips["axis"], True, False, True, mhd)
         elif kind == "outflow":
             outflow(W, bn, bt, side, ng, lo, hi, inorm, mhd)
         else:

@@ -3,7 +3,7 @@ ghost faces its field components."""
 from numba import njit
 
 
-@njit(cache=True)
+@njit(cache=True, error_model="numpy")
 def fixed(W, bn, bt, side, ng, is_, ie, w, ibn, ibt, mhd):
     nv, nt, _ = W.shape
     for k in range(1, ng + 1):

@@ -4,7 +4,7 @@ feeds mass in).  Face fields are copied outward."""
 from numba import njit
 
 
-@njit(cache=True)
+@njit(cache=True, error_model="numpy")
 def outflow(W, bn, bt, side, ng, is_, ie, inorm, mhd):
     nv, nt, _ = W.shape
     for k in range(1, ng + 1):

@@ -4,7 +4,7 @@ bitwise identical updates because their stencils are identical copies."""
 from numba import njit
 
 
-@njit(cache=True)
+@njit(cache=True, error_model="numpy")
 def periodic(W, bn, bt, ng, is_, ie, mhd):
     nv, nt, _ = W.shape
     n = ie - is_

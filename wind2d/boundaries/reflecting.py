@@ -1,6 +1,10 @@
-"""Reflecting wall: ghost cells mirror the interior, the normal velocity and the
-normal field change sign (common practice for a slip wall; mass, energy and
-tangential momentum fluxes through the wall vanish by symmetry).
+"""Reflecting (slip) wall: ghost cells are the mirror image of the interior.
+
+The normal velocity is odd.  The field is mirrored as the axial vector it is
+(true mirror symmetry of ideal MHD): normal component even, tangential
+components odd.  Field lines may thread the wall, the magnetic stress
+``B_n B_t`` vanishes on it, and the mass, energy and tangential-momentum
+fluxes through the wall vanish by symmetry.
 
 Kernels see the side as "axis 1": ``W[var, t, n]``, normal faces ``bn[t, n]``,
 tangential faces ``bt[t, n]``; the caller passes transposed views for axis 2.
@@ -8,8 +12,8 @@ tangential faces ``bt[t, n]``; the caller passes transposed views for axis 2.
 from numba import njit
 
 
-@njit(cache=True)
-def mirror(W, bn, bt, side, ng, is_, ie, flips, flip_bn, zero_face, mhd):
+@njit(cache=True, error_model="numpy")
+def mirror(W, bn, bt, side, ng, is_, ie, flips, flip_bn, flip_bt, zero_face, mhd):
     """Mirror ghost cells about the boundary face, negating the variables in ``flips``."""
     nv, nt, _ = W.shape
     for k in range(1, ng + 1):
@@ -33,9 +37,10 @@ def mirror(W, bn, bt, side, ng, is_, ie, flips, flip_bn, zero_face, mhd):
                     bn[t, is_ - k] = sb * bn[t, is_ + k]
                 else:
                     bn[t, ie + k] = sb * bn[t, ie - k]
+        st = -1.0 if flip_bt else 1.0
         for t in range(bt.shape[0]):
             for k in range(1, ng + 1):
                 if side == 0:
-                    bt[t, is_ - k] = bt[t, is_ + k - 1]
+                    bt[t, is_ - k] = st * bt[t, is_ + k - 1]
                 else:
-                    bt[t, ie + k - 1] = bt[t, ie - k]
+                    bt[t, ie + k - 1] = st * bt[t, ie - k]

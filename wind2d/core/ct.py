@@ -25,7 +25,7 @@ from numba import njit
 from ..state import IDN, IV1, IV2, IB1, IB2
 
 
-@njit(cache=True)
+@njit(cache=True, error_model="numpy")
 def _pick(fm, a, b):
     if fm > 0.0:
         return a
@@ -34,7 +34,7 @@ def _pick(fm, a, b):
     return 0.5 * (a + b)
 
 
-@njit(cache=True)
+@njit(cache=True, error_model="numpy")
 def corner_emf(W, F1, F2, E3, Ec, js, je, is_, ie, axis_lo):
     """Fill corner fields ``E3[j, i]`` for ``js <= j <= je``, ``is_ <= i <= ie``."""
     for j in range(js - 1, je + 1):
@@ -56,7 +56,7 @@ def corner_emf(W, F1, F2, E3, Ec, js, je, is_, ie, axis_lo):
             E3[j, is_] = 0.0
 
 
-@njit(cache=True)
+@njit(cache=True, error_model="numpy")
 def update_faces(b1_0, b2_0, b1, b2, E3, dt, area1, vol1, dx2, js, je, is_, ie):
     """Advance the interior face fields (boundary faces included) by ``dt``."""
     for j in range(js, je):
@@ -69,7 +69,7 @@ def update_faces(b1_0, b2_0, b1, b2, E3, dt, area1, vol1, dx2, js, je, is_, ie):
                                          - area1[i] * E3[j, i]) / vol1[i]
 
 
-@njit(cache=True)
+@njit(cache=True, error_model="numpy")
 def cell_centred_field(b1, b2, W, area1, j0, j1, i0, i1):
     """Cell-centred B1 (area-weighted along axis 1) and B2 (mean) from the faces."""
     for j in range(j0, j1):
@@ -80,7 +80,7 @@ def cell_centred_field(b1, b2, W, area1, j0, j1, i0, i1):
             W[IB2, j, i] = 0.5 * (b2[j, i] + b2[j + 1, i])
 
 
-@njit(cache=True)
+@njit(cache=True, error_model="numpy")
 def divergence(b1, b2, area1, vol1, dx2, js, je, is_, ie, out):
     """Discrete div B of the interior cells into ``out[j - js, i - is_]``."""
     for j in range(js, je):

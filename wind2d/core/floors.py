@@ -17,7 +17,7 @@ FALLBACK, DENSITY_FLOOR, PRESSURE_FLOOR = 0, 1, 2
 COUNTER_NAMES = ("fallback_cells", "density_floor_cells", "pressure_floor_cells")
 
 
-@njit(cache=True)
+@njit(cache=True, error_model="numpy")
 def cons_to_prim(U, W, b1, b2, area1, gamma, iso, cs2, mhd, nhydro, d_floor, p_floor,
                  counters, js, je, is_, ie):
     """Primitives of the interior cells; floors applied to ``U`` and counted."""
@@ -79,7 +79,7 @@ def cons_to_prim(U, W, b1, b2, area1, gamma, iso, cs2, mhd, nhydro, d_floor, p_f
                 W[v, j, i] = U[v, j, i] * rd
 
 
-@njit(cache=True)
+@njit(cache=True, error_model="numpy")
 def prim_to_cons(W, U, gamma, iso, mhd, nhydro, js, je, is_, ie):
     """Conserved variables from primitives (cell-centred field taken from ``W``)."""
     nv = W.shape[0]
@@ -107,7 +107,7 @@ def prim_to_cons(W, U, gamma, iso, mhd, nhydro, js, je, is_, ie):
                 U[v, j, i] = d * W[v, j, i]
 
 
-@njit(cache=True)
+@njit(cache=True, error_model="numpy")
 def _bad_cell(U, b1, b2, area1, j, i, gamma, iso, mhd):
     d = U[IDN, j, i]
     if not d > 0.0:
@@ -125,7 +125,7 @@ def _bad_cell(U, b1, b2, area1, j, i, gamma, iso, mhd):
     return not (U[IEN, j, i] - ek - emag) > 0.0
 
 
-@njit(cache=True)
+@njit(cache=True, error_model="numpy")
 def _first_order_flux(W, b, F, dirn, j, i, gamma, iso, cs2, mhd, nhydro):
     # HLLE flux between the cell values either side of face (j, i) of direction dirn
     if dirn == 1:
@@ -156,7 +156,7 @@ def _first_order_flux(W, b, F, dirn, j, i, gamma, iso, cs2, mhd, nhydro):
         F[v, j, i] = f[0] * (W[v, jl, il] if f[0] >= 0.0 else W[v, j, i])
 
 
-@njit(cache=True)
+@njit(cache=True, error_model="numpy")
 def find_bad_cells(U, b1, b2, area1, gamma, iso, mhd, flags, js, je, is_, ie):
     """Mark interior cells with non-positive density or pressure; return their number."""
     nbad = 0
@@ -170,7 +170,7 @@ def find_bad_cells(U, b1, b2, area1, gamma, iso, mhd, flags, js, je, is_, ie):
     return nbad
 
 
-@njit(cache=True)
+@njit(cache=True, error_model="numpy")
 def first_order_faces(W, b1, b2, F1, F2, flags, gamma, iso, cs2, mhd, nhydro,
                       js, je, is_, ie):
     """Replace the fluxes on every face of a flagged cell by first-order HLLE fluxes

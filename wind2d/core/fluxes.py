@@ -18,7 +18,7 @@ from .riemann.hllc import hllc
 from .riemann.hlld import hlld
 
 
-@njit(cache=True)
+@njit(cache=True, error_model="numpy")
 def riemann(solver, dl, unl, ut1l, ut2l, pl, bt1l, bt2l,
             dr, unr, ut1r, ut2r, pr, bt1r, bt2r, bn, gamma, iso, cs2):
     """Dispatch to the solver with integer id ``solver`` (see riemann.SOLVERS)."""
@@ -32,16 +32,16 @@ def riemann(solver, dl, unl, ut1l, ut2l, pl, bt1l, bt2l,
                 dr, unr, ut1r, ut2r, pr, bt1r, bt2r, bn, gamma, iso, cs2)
 
 
-@njit(cache=True)
-def _positivity_guard(wlo, whi, w, k, nv):
-    # first order in cell k if its face values lost positivity
-    if wlo[IDN, k] <= 0.0 or whi[IDN, k] <= 0.0 or wlo[IPR, k] <= 0.0 or whi[IPR, k] <= 0.0:
+@njit(cache=True, error_model="numpy")
+def _positivity_guard(wlo, whi, W, j, k, kk, nv):
+    # first order in cell (j, k) (buffer slot kk) if its face values lost positivity
+    if wlo[IDN, kk] <= 0.0 or whi[IDN, kk] <= 0.0 or wlo[IPR, kk] <= 0.0 or whi[IPR, kk] <= 0.0:
         for v in range(nv):
-            wlo[v, k] = w[v, k]
-            whi[v, k] = w[v, k]
+            wlo[v, kk] = W[v, j, k]
+            whi[v, kk] = W[v, j, k]
 
 
-@njit(cache=True)
+@njit(cache=True, error_model="numpy")
 def sweep1(W, b1, F, geo, limiter, solver, gamma, iso, cs2, mhd, nscal, iscal,
            j0, j1, f0, f1, wlo, whi):
     """Axis-1 fluxes on rows ``j0 <= j < j1`` and faces ``f0 <= i < f1``.
@@ -60,7 +60,7 @@ def sweep1(W, b1, F, geo, limiter, solver, gamma, iso, cs2, mhd, nscal, iscal,
                 whi[v, k] = W[v, j, k] + s * geo[G_DFR, k]
         if limiter != 0:
             for k in range(f0 - 1, f1):
-                _positivity_guard(wlo, whi, W[:, j, :], k, nv)
+                _positivity_guard(wlo, whi, W, j, k, k, nv)
         for i in range(f0, f1):
             L = i - 1
             R = i
@@ -90,7 +90,7 @@ def sweep1(W, b1, F, geo, limiter, solver, gamma, iso, cs2, mhd, nscal, iscal,
                 F[q, j, i] = f[0] * (whi[q, L] if f[0] >= 0.0 else wlo[q, R])
 
 
-@njit(cache=True)
+@njit(cache=True, error_model="numpy")
 def sweep2(W, b2, F, geo, limiter, solver, gamma, iso, cs2, mhd, nscal, iscal,
            f0, f1, i0, i1, wlo_a, whi_a, wlo_b, whi_b):
     """Axis-2 fluxes on faces ``f0 <= j < f1`` and columns ``i0 <= i < i1``.
@@ -116,7 +116,7 @@ def sweep2(W, b2, F, geo, limiter, solver, gamma, iso, cs2, mhd, nscal, iscal,
                 hi_cur[v, i] = W[v, j, i] + s * dfr
         if limiter != 0:
             for i in range(i0, i1):
-                _positivity_guard(lo_cur, hi_cur, W[:, j, :], i, nv)
+                _positivity_guard(lo_cur, hi_cur, W, j, i, i, nv)
         if j >= f0:
             for i in range(i0, i1):
                 if mhd:

@@ -23,7 +23,7 @@ from numba import njit
 from ..state import IDN, IM1, IM3, IEN, IPR, IV3, IB1, IB2, IB3
 
 
-@njit(cache=True, inline="always")
+@njit(cache=True, error_model="numpy", inline="always")
 def _rate(v, j, i, W, F1, F2, area1, h1f, h1c, vol1, geo1, dx1, dx2, cyl, mhd):
     """Flux divergence minus geometric source of variable ``v`` in cell (j, i)."""
     g2 = (F2[v, j + 1, i] - F2[v, j, i]) / dx2[j]
@@ -45,21 +45,42 @@ def _rate(v, j, i, W, F1, F2, area1, h1f, h1c, vol1, geo1, dx1, dx2, cyl, mhd):
     return g1 + g2
 
 
-@njit(cache=True)
+@njit(cache=True, error_model="numpy")
 def update_cells(U0, U1, W, F1, F2, dt, area1, h1f, h1c, vol1, geo1, dx1, dx2,
                  cyl, mhd, iso, js, je, is_, ie):
-    """``U1 = U0 - dt * div F + dt * S`` on the interior, with fluxes ``F1``, ``F2``."""
+    """``U1 = U0 - dt * div F + dt * S`` on the interior, with fluxes ``F1``, ``F2``.
+
+    One loop nest per kind of variable, so the inner loops carry no branches.
+    """
     nv = U0.shape[0]
     for v in range(nv):
         if (mhd and (v == IB1 or v == IB2)) or (iso and v == IEN):
             continue
         for j in range(js, je):
-            for i in range(is_, ie):
-                U1[v, j, i] = U0[v, j, i] - dt * _rate(v, j, i, W, F1, F2, area1, h1f, h1c,
-                                                       vol1, geo1, dx1, dx2, cyl, mhd)
+            r2 = dt / dx2[j]
+            if v == IM3:
+                for i in range(is_, ie):
+                    U1[v, j, i] = (U0[v, j, i]
+                                   - dt * (area1[i + 1] * h1f[i + 1] * F1[v, j, i + 1]
+                                           - area1[i] * h1f[i] * F1[v, j, i]) / (vol1[i] * h1c[i])
+                                   - r2 * (F2[v, j + 1, i] - F2[v, j, i]))
+            elif v == IB3:
+                for i in range(is_, ie):
+                    U1[v, j, i] = (U0[v, j, i] - dt * (F1[v, j, i + 1] - F1[v, j, i]) / dx1[i]
+                                   - r2 * (F2[v, j + 1, i] - F2[v, j, i]))
+            elif v == IM1 and cyl:
+                for i in range(is_, ie):
+                    U1[v, j, i] = U0[v, j, i] - dt * _rate(v, j, i, W, F1, F2, area1, h1f, h1c,
+                                                           vol1, geo1, dx1, dx2, cyl, mhd)
+            else:
+                for i in range(is_, ie):
+                    U1[v, j, i] = (U0[v, j, i]
+                                   - dt * (area1[i + 1] * F1[v, j, i + 1]
+                                           - area1[i] * F1[v, j, i]) / vol1[i]
+                                   - r2 * (F2[v, j + 1, i] - F2[v, j, i]))
 
 
-@njit(cache=True)
+@njit(cache=True, error_model="numpy")
 def update_flagged(U0, U1, W, F1, F2, dt, area1, h1f, h1c, vol1, geo1, dx1, dx2,
                    cyl, mhd, iso, flags, js, je, is_, ie):
     """As ``update_cells`` but only for cells with a non-zero flag."""

@@ -41,13 +41,27 @@ class Integrator:
         self.rows = [np.zeros((nv, m.nt1 + 1)) for _ in range(4)]
         self.flags = np.zeros((m.nt2, m.nt1), dtype=np.int8)
         self.counters = np.zeros(len(floors.COUNTER_NAMES), dtype=np.int64)
-        self.g1 = axis_coefficients(m.x1f, m.x1c)
-        self.g2 = axis_coefficients(m.x2f, m.x2c)
+        self.g1 = axis_coefficients(m.x1f, self._mirrored_centres(m.x1f, m.x1c, 1))
+        self.g2 = axis_coefficients(m.x2f, self._mirrored_centres(m.x2f, m.x2c, 2))
         # ranges: MHD needs fluxes one row/column beyond the interior for the corners
         e = 1 if self.mhd else 0
         self.r1 = (m.js - e, m.je + e, m.is_, m.ie + 1)
         self.r2 = (m.js, m.je + 1, m.is_ - e, m.ie + e)
         self.gas = (eos.gamma, eos.isothermal, eos.cs2)
+
+    def _mirrored_centres(self, xf, xc, axis):
+        # Ghost centres behind a wall are the mirror images of the interior ones, so
+        # that reconstruction sees mirror-symmetric data and wall fluxes of mass and
+        # energy vanish (the R centroid is not symmetric about its cell's midpoint).
+        xc = xc.copy()
+        m = self.mesh
+        lo, hi = (m.is_, m.ie) if axis == 1 else (m.js, m.je)
+        for k in range(1, m.ng + 1):
+            if self.bc.edges[f"x{axis}_lo"][0] in ("reflecting", "axis"):
+                xc[lo - k] = 2.0 * xf[lo] - xc[lo + k - 1]
+            if self.bc.edges[f"x{axis}_hi"][0] == "reflecting":
+                xc[hi + k - 1] = 2.0 * xf[hi] - xc[hi - k]
+        return xc
 
     # ------------------------------------------------------------ pieces
     def primitives(self, st: State) -> None:

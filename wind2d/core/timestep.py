@@ -3,13 +3,15 @@
 ``dt = C / max_cells max((|v1| + c_f1)/dx1, (|v2| + c_f2)/dx2)`` with ``c_f``
 the fast magnetosonic speed along each axis (the sound speed without field).
 """
+import math
+
 from numba import njit
 
 from ..state import IDN, IV1, IV2, IPR, IB1, IB2, IB3
 from .eos import fast_speed
 
 
-@njit(cache=True)
+@njit(cache=True, error_model="numpy")
 def max_signal_rate(W, dx1, dx2, gamma, iso, cs2, mhd, js, je, is_, ie):
     """Largest (|v| + c_f)/dx over the interior; -1 if a cell is not finite or
     has non-positive density or pressure."""
@@ -28,7 +30,7 @@ def max_signal_rate(W, dx1, dx2, gamma, iso, cs2, mhd, js, je, is_, ie):
                 c1 = fast_speed(d, p, b1, b2, b3, gamma, iso, cs2)
                 c2 = fast_speed(d, p, b2, b1, b3, gamma, iso, cs2)
             else:
-                c1 = (cs2 if iso else gamma * p / d) ** 0.5
+                c1 = math.sqrt(cs2 if iso else gamma * p / d)
                 c2 = c1
             s1 = (abs(W[IV1, j, i]) + c1) / dx1[i]
             s2 = (abs(W[IV2, j, i]) + c2) * idx2

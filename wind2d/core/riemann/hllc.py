@@ -13,17 +13,19 @@ E_K/rho_K + (S* - u_K)(S* + p_K/(rho_K (S_K - u_K))))`` and
 Isothermal gas: density and normal momentum from the HLL state, the
 tangential velocities carried by the contact ``S* = (rho u)_HLL / rho_HLL``.
 """
+import math
+
 from numba import njit
 
 from ..eos import sound_speed2
 from .flux import physical_flux, total_energy
 
 
-@njit(cache=True)
+@njit(cache=True, error_model="numpy")
 def hllc(dl, unl, ut1l, ut2l, pl, bt1l, bt2l,
          dr, unr, ut1r, ut2r, pr, bt1r, bt2r, bn, gamma, iso, cs2):
-    cl = sound_speed2(dl, pl, gamma, iso, cs2) ** 0.5
-    cr = sound_speed2(dr, pr, gamma, iso, cs2) ** 0.5
+    cl = math.sqrt(sound_speed2(dl, pl, gamma, iso, cs2))
+    cr = math.sqrt(sound_speed2(dr, pr, gamma, iso, cs2))
     sl = min(unl - cl, unr - cr)
     sr = max(unl + cl, unr + cr)
     el = total_energy(dl, unl, ut1l, ut2l, pl, 0.0, 0.0, 0.0, gamma, iso)
