@@ -28,7 +28,7 @@ Measured with this code (MC limiter, courant 0.4), error norm at 32 / 64 /
 128 cells along x, and the orders log2(e32/e64), log2(e64/e128), log4(e32/e128):
 
     fast    HLLD  3.36e-08  7.21e-09  1.67e-09   2.22  2.11  2.17
-    alfven  HLLD  5.28e-08  1.32e-08  3.31e-09   2.00  2.00  2.00
+    alfven  HLLD  5.28e-08  1.32e-08  3.30e-09   2.00  2.00  2.00
     slow    HLLD  7.21e-08  1.68e-08  4.31e-09   2.10  1.96  2.03
     entropy HLLD  4.97e-08  1.51e-08  3.87e-09   1.72  1.96  1.84
     alfven  HLLE  6.47e-08  9.78e-09  1.79e-09   2.73  2.45  2.59
