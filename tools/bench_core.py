@@ -16,18 +16,25 @@ compilation and cache loading are excluded.
 Also reported:
 
 * memory: bytes per interior zone of all arrays the Simulation holds, plus, in a
-  fresh subprocess, the peak-RSS growth and the tracemalloc peak while the
-  simulation is built, set up and stepped;
+  fresh subprocess, the growth of the resident set and the tracemalloc peak
+  (numpy buffers included) while the simulation is built, set up and stepped;
 * per-step allocations: tracemalloc peak during a few steps after warm-up
   (numpy / Python heap) and the number of allocations made inside numba kernels
   (NRT statistics, array arguments discounted), compared with one grid array;
 * start-up: time from launching a fresh ``python -c`` process (import wind2d,
   build a grid, one step) to the end of its first step, with a warm numba cache;
 * a per-kernel profile: every numba kernel called from Python during a step is
-  timed (wrapped for the duration of the profile only), plus the Python glue;
+  timed in place (wrapped for the duration of the profile only), plus the Python
+  glue; then the calls of one step are replayed one by one (fastest of a few
+  repeats), which is less sensitive to other load on the machine;
 * optionally the compiled C measuring stick (``--reference`` or
-  ``--build-reference``), run on the same grids in the same session, and the
-  ratio of wind2d's rate to it.
+  ``--build-reference``), run on the same grids in the same session.  The timed
+  steps are split into blocks (``--blocks``), each preceded by one C run, and the
+  ratio reported is the median over blocks of wind2d's block rate over the C
+  rate measured just before it, so that slowly changing load from other work
+  on the machine affects both sides alike.
+
+Rates are zone updates per second: interior cells x steps / seconds.
 
 Usage::
 
@@ -77,8 +84,8 @@ CASES = {
 PERIODIC = {"x_low": "periodic", "x_high": "periodic",
             "y_low": "periodic", "y_high": "periodic"}
 
-# default size of one C reference run, in zone updates (~1-2 s at 2-3e7/s)
-REF_BUDGET = 500 * 256 * 256
+# default size of one C reference run, in zone updates (~1 s at 2-3e7/s)
+REF_BUDGET = 300 * 256 * 256
 
 
 def build_sim(case: str, n: int):
@@ -201,26 +208,48 @@ def _kernel_name(disp) -> str:
 
 
 # ----------------------------------------------------------------- timing
-def time_steps(sim, steps: int) -> dict:
-    """Time ``steps`` calls of ``sim.step()``; each step timed separately too."""
-    per = []
+def time_steps(sim, steps: int, blocks: int = 1, before_block=None) -> dict:
+    """Time ``steps`` calls of ``sim.step()`` in ``blocks`` consecutive blocks; each
+    step is timed separately too.  ``before_block()`` (untimed here) runs before
+    every block and returns a reference rate; the ratio of each block's rate to the
+    reference rate measured just before it is robust against slowly changing load
+    from other work on the machine."""
+    cells = sim.mesh.n1 * sim.mesh.n2
+    blocks = max(1, min(blocks, steps))
+    sizes = [steps // blocks + (1 if b < steps % blocks else 0) for b in range(blocks)]
+    per, out_blocks, total = [], [], 0.0
     gc_was = gc.isenabled()
-    gc.disable()
     try:
-        t_start = time.perf_counter()
-        for _ in range(steps):
-            t0 = time.perf_counter()
-            sim.step()
-            per.append(time.perf_counter() - t0)
-        total = time.perf_counter() - t_start
+        for nb in sizes:
+            ref = before_block() if before_block is not None else None
+            gc.disable()
+            t_start = time.perf_counter()
+            for _ in range(nb):
+                t0 = time.perf_counter()
+                sim.step()
+                per.append(time.perf_counter() - t0)
+            tb = time.perf_counter() - t_start
+            if gc_was:
+                gc.enable()
+            total += tb
+            blk = dict(steps=nb, seconds=tb, zone_updates_per_s=cells * nb / tb)
+            if ref is not None:
+                blk["reference_zone_updates_per_s"] = ref
+                blk["ratio"] = blk["zone_updates_per_s"] / ref
+            out_blocks.append(blk)
     finally:
         if gc_was:
             gc.enable()
-    cells = sim.mesh.n1 * sim.mesh.n2
     med = statistics.median(per)
-    return dict(steps=steps, seconds=total, zone_updates_per_s=cells * steps / total,
-                median_step_s=med, median_step_zone_updates_per_s=cells / med,
-                best_step_zone_updates_per_s=cells / min(per))
+    out = dict(steps=steps, seconds=total, zone_updates_per_s=cells * steps / total,
+               median_step_s=med, median_step_zone_updates_per_s=cells / med,
+               best_step_zone_updates_per_s=cells / min(per), blocks=out_blocks)
+    if before_block is not None:
+        refs = [b["reference_zone_updates_per_s"] for b in out_blocks]
+        out["reference_zone_updates_per_s"] = statistics.median(refs)
+        out["ratio_to_reference"] = statistics.median(b["ratio"] for b in out_blocks)
+        out["ratio_of_rates"] = out["zone_updates_per_s"] / statistics.median(refs)
+    return out
 
 
 def step_allocations(sim, steps: int) -> dict:
@@ -228,13 +257,16 @@ def step_allocations(sim, steps: int) -> dict:
     ``steps`` steps, then, over as many further steps, the allocations made inside
     numba kernels (NRT counter minus the meminfos of unboxed array arguments)."""
     gc.collect()
-    tracemalloc.start()
+    was_tracing = tracemalloc.is_tracing()
+    if not was_tracing:
+        tracemalloc.start()
     cur0, _ = tracemalloc.get_traced_memory()
     tracemalloc.reset_peak()
     for _ in range(steps):
         sim.step()
     cur1, peak = tracemalloc.get_traced_memory()
-    tracemalloc.stop()
+    if not was_tracing:
+        tracemalloc.stop()
     grid = _grid_array_bytes(sim)
     out = dict(steps=steps, tracemalloc_peak_bytes=int(peak - cur0),
                tracemalloc_net_bytes=int(cur1 - cur0), grid_array_bytes=grid,
@@ -267,17 +299,35 @@ def step_allocations(sim, steps: int) -> dict:
     return out
 
 
-def profile_kernels(sim, steps: int) -> dict:
-    """Time every numba kernel called from Python during ``steps`` steps."""
+BC_LABEL = "Boundaries.apply (total, incl. its kernels)"
+
+
+def profile_kernels(sim, steps: int, replays: int = 5) -> dict:
+    """Time every numba kernel called from Python during ``steps`` steps.
+
+    ``kernels``: the kernels timed where they run inside ``sim.step()`` (each
+    dispatcher wrapped for the duration of the profile only).  ``isolated``: the
+    calls of one step recorded with their arguments and replayed ``replays``
+    times each afterwards, fastest kept (less sensitive to other load on the
+    machine; the kernels are idempotent for fixed inputs).  The state of ``sim``
+    is not meaningful afterwards.
+    """
     acc: dict[str, list] = {}
-    patched = []
+    patched, recorded, record, depth = [], [], [True], [0]
 
     def wrap(name, fn):
         def timed(*a, **k):
+            if record[0] and depth[0] == 0:     # outermost calls only
+                recorded.append((name, fn, a, k))
+            depth[0] += 1
             t0 = time.perf_counter()
-            r = fn(*a, **k)
+            try:
+                r = fn(*a, **k)
+            finally:
+                dt = time.perf_counter() - t0
+                depth[0] -= 1
             e = acc.setdefault(name, [0.0, 0])
-            e[0] += time.perf_counter() - t0
+            e[0] += dt
             e[1] += 1
             return r
         return timed
@@ -288,27 +338,45 @@ def profile_kernels(sim, steps: int) -> dict:
         patched.append((mod, attr, disp))
         setattr(mod, attr, wrap(name, disp))
     bc = sim.integrator.bc
-    bc_apply = bc.apply
-    bc.apply = wrap("Boundaries.apply (total, incl. its kernels)", bc_apply)
+    bc.apply = wrap(BC_LABEL, bc.apply)
     try:
         t0 = time.perf_counter()
-        for _ in range(steps):
+        for s in range(steps):
+            record[0] = s == 0
             sim.step()
         total = time.perf_counter() - t0
     finally:
         for mod, attr, disp in patched:
             setattr(mod, attr, disp)
         del bc.apply
+    cells = sim.mesh.n1 * sim.mesh.n2
     kernels = {}
     ksum = 0.0
     for name, (t, c) in sorted(acc.items(), key=lambda kv: -kv[1][0]):
         kernels[name] = dict(ms_per_step=1e3 * t / steps, calls_per_step=c / steps,
-                             fraction=t / total)
-        if not name.startswith("Boundaries.apply"):
+                             ns_per_zone_per_step=1e9 * t / steps / cells, fraction=t / total)
+        if name != BC_LABEL:
             ksum += t
-    return dict(steps=steps, ms_per_step=1e3 * total / steps, kernels=kernels,
+    # replay the outermost calls of one step (calls nested in Boundaries.apply are
+    # part of its replay)
+    iso: dict[str, float] = {}
+    for name, fn, a, k in recorded:
+        best = math.inf
+        for _ in range(replays):
+            t0 = time.perf_counter()
+            fn(*a, **k)
+            best = min(best, time.perf_counter() - t0)
+        iso[name] = iso.get(name, 0.0) + best
+    isum = sum(iso.values())
+    isolated = {name: dict(ms_per_step=1e3 * t, ns_per_zone_per_step=1e9 * t / cells,
+                           fraction=t / isum)
+                for name, t in sorted(iso.items(), key=lambda kv: -kv[1])}
+    return dict(steps=steps, ms_per_step=1e3 * total / steps,
+                ns_per_zone_per_step=1e9 * total / steps / cells, kernels=kernels,
                 python_glue_ms_per_step=1e3 * (total - ksum) / steps,
-                python_glue_fraction=(total - ksum) / total)
+                python_glue_fraction=(total - ksum) / total,
+                isolated=dict(replays=replays, ms_per_step=1e3 * isum,
+                              ns_per_zone_per_step=1e9 * isum / cells, kernels=isolated))
 
 
 # ----------------------------------------------------------------- subprocesses
@@ -336,7 +404,9 @@ def memory_child(case: str, n: int, steps: int) -> dict:
                held_bytes_per_zone=held / cells,
                tracemalloc_peak_build_bytes_per_zone=setup_peak / cells,
                tracemalloc_peak_total_bytes_per_zone=max(setup_peak, step_peak) / cells,
-               maxrss_growth_bytes_per_zone=(rss1 - rss0) / cells)
+               maxrss_growth_bytes_per_zone=(rss1 - rss0) / cells,
+               maxrss_note="growth of the high-water mark; 0 when the import of numba "
+                           "already peaked higher")
     if cur_rss0 is not None and cur_rss1 is not None:
         out["rss_growth_bytes_per_zone"] = (cur_rss1 - cur_rss0) / cells
     return out
@@ -395,10 +465,9 @@ def startup_once(case: str, n: int) -> dict:
                                   rho_amp=RHO_AMP, p_amp=P_AMP, adv=ADV,
                                   b1=B0 * math.cos(B_ANGLE), b2=B0 * math.sin(B_ANGLE),
                                   bz=BZ)
-    env = dict(os.environ)
     t_launch = time.monotonic()     # CLOCK_MONOTONIC: shared with the child
     r = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
-                       cwd=tempfile.gettempdir(), env=env)
+                       cwd=str(REPO))
     t_exit = time.monotonic()
     if r.returncode != 0:
         return dict(error=r.stderr.strip()[-2000:])
@@ -444,16 +513,14 @@ def build_reference(src: Path, workdir: Path) -> Path:
     return workdir / "hydro2d"
 
 
-def run_reference(binary: Path, n: int, steps: int, repeats: int) -> dict:
-    rates = []
-    for _ in range(repeats):
-        r = subprocess.run([str(binary), str(n), str(n), str(steps)], capture_output=True,
-                           text=True, check=True)
-        m = re.search(r"zone_updates_per_s=([0-9.eE+-]+)", r.stdout)
-        if not m:
-            raise RuntimeError(f"unexpected output of {binary}: {r.stdout!r}")
-        rates.append(float(m.group(1)))
-    return dict(n=n, steps=steps, runs=rates, zone_updates_per_s=statistics.median(rates))
+def run_reference(binary: Path, n: int, steps: int) -> float:
+    """One run of the C program on an n x n grid; its zone updates per second."""
+    r = subprocess.run([str(binary), str(n), str(n), str(steps)], capture_output=True,
+                       text=True, check=True)
+    m = re.search(r"zone_updates_per_s=([0-9.eE+-]+)", r.stdout)
+    if not m:
+        raise RuntimeError(f"unexpected output of {binary}: {r.stdout!r}")
+    return float(m.group(1))
 
 
 # ----------------------------------------------------------------- driver
@@ -484,8 +551,9 @@ def parse_args(argv):
                    help="folder with hydro2d.c and build.sh (default: shared/bench-reference)")
     p.add_argument("--reference-steps", type=int, default=None,
                    help=f"steps of each C run (default {REF_BUDGET} zone updates / n^2)")
-    p.add_argument("--reference-repeats", type=int, default=3,
-                   help="C runs per grid (median reported)")
+    p.add_argument("--blocks", type=int, default=None,
+                   help="split the timed steps into this many blocks, each preceded by "
+                        "a C reference run when one is given (default 4; 1 with --quick)")
     p.add_argument("--quick", action="store_true",
                    help="smoke run: 32^2 grid, 3 steps, one start-up process")
     p.add_argument("--json", action="store_true", help="print one JSON object")
@@ -501,6 +569,7 @@ def parse_args(argv):
     for c in a.cases:
         if c not in CASES:
             p.error(f"--cases: unknown case {c!r}; allowed: {', '.join(CASES)}")
+    a.blocks = a.blocks if a.blocks is not None else (1 if q else 4)
     a.profile_steps = a.profile_steps if a.profile_steps is not None else (2 if q else 8)
     a.startup_repeats = a.startup_repeats if a.startup_repeats is not None else (1 if q else 3)
     if a.steps < 1 or a.warmup < 1 or any(n < 4 for n in a.sizes):
@@ -523,9 +592,37 @@ def machine_info() -> dict:
                 numpy=np.__version__, numba=numba.__version__, platform=platform.platform())
 
 
+def code_identity() -> dict:
+    """Which wind2d source was measured: git HEAD, dirty flag, hash of wind2d/**/*.py."""
+    import hashlib
+    h = hashlib.sha256()
+    for f in sorted((REPO / "wind2d").rglob("*.py")):
+        h.update(str(f.relative_to(REPO)).encode())
+        h.update(f.read_bytes())
+    out = dict(wind2d_sources_sha256=h.hexdigest()[:16])
+    try:
+        head = subprocess.run(["git", "rev-parse", "--short", "HEAD"], cwd=str(REPO),
+                              capture_output=True, text=True, check=True).stdout.strip()
+        dirty = subprocess.run(["git", "status", "--porcelain", "--", "wind2d"],
+                               cwd=str(REPO), capture_output=True, text=True,
+                               check=True).stdout.strip() != ""
+        out.update(git_head=head, wind2d_modified=dirty)
+    except (OSError, subprocess.CalledProcessError):
+        pass
+    return out
+
+
+def _loadavg():
+    try:
+        return list(os.getloadavg())
+    except OSError:
+        return None
+
+
 def run(a, log) -> dict:
     t_begin = time.perf_counter()
     result = dict(benchmark="wind2d.bench_core", quick=a.quick, machine=machine_info(),
+                  code=code_identity(), loadavg_start=_loadavg(),
                   settings=dict(steps=a.steps, warmup=a.warmup, sizes=a.sizes, cases=a.cases,
                                 courant=0.4, limiter="mc"),
                   cases={c: CASES[c]["label"] for c in a.cases}, results=[])
@@ -549,8 +646,19 @@ def run(a, log) -> dict:
                 sim = build_sim(case, n)
                 for _ in range(a.warmup):
                     sim.step()
-                log(f"{case} {n}^2: timing {a.steps} step(s)")
-                r = dict(case=case, n=n, cells=n * n, **time_steps(sim, a.steps))
+                before = None
+                if ref_binary is not None:
+                    rsteps = a.reference_steps or max(1, REF_BUDGET // (n * n))
+                    refs.setdefault(n, dict(n=n, steps=rsteps, runs=[]))
+
+                    def before(n=n, rsteps=rsteps):
+                        rate = run_reference(ref_binary, n, rsteps)
+                        refs[n]["runs"].append(rate)
+                        return rate
+                log(f"{case} {n}^2: timing {a.steps} step(s) in {a.blocks} block(s)"
+                    + (", each after a C run" if before else ""))
+                r = dict(case=case, n=n, cells=n * n,
+                         **time_steps(sim, a.steps, a.blocks, before))
                 sim.integrator.max_dt()         # raises if the state went bad
                 r["t_reached"] = sim.t
                 r["held_bytes_per_zone"] = held_array_bytes(sim)[0] / (n * n)
@@ -561,20 +669,15 @@ def run(a, log) -> dict:
                     r["profile"] = profile_kernels(sim, a.profile_steps)
                 del sim
                 gc.collect()
-                if ref_binary is not None and n not in refs:
-                    steps = a.reference_steps or max(a.steps, REF_BUDGET // (n * n))
-                    log(f"C reference {n}^2: {a.reference_repeats} x {steps} steps")
-                    refs[n] = run_reference(ref_binary, n, steps, a.reference_repeats)
-                if n in refs:
-                    ratio = r["zone_updates_per_s"] / refs[n]["zone_updates_per_s"]
-                    r["ratio_to_reference"] = ratio
-                    r["reference_zone_updates_per_s"] = refs[n]["zone_updates_per_s"]
                 result["results"].append(r)
         if ref_binary is not None:
-            result["reference"] = dict(binary=str(ref_binary),
-                                       note="C program: gas only (PLM mc + HLLC + "
-                                            "predictor-corrector); MHD ratios are indicative",
-                                       grids={str(n): v for n, v in refs.items()})
+            grids = {str(n): dict(v, zone_updates_per_s=statistics.median(v["runs"]))
+                     for n, v in refs.items()}
+            result["reference"] = dict(
+                binary=str(ref_binary), grids=grids,
+                note="C program: gas only (PLM mc + HLLC + predictor-corrector); MHD ratios "
+                     "are indicative; ratio = median over blocks of the block rate over the "
+                     "C rate measured just before the block")
     finally:
         if tmp is not None:
             tmp.cleanup()
@@ -594,6 +697,7 @@ def run(a, log) -> dict:
                                                      prime=not a.quick))
     result["summary"] = {f"{r['case']}_{r['n']}": r["zone_updates_per_s"]
                          for r in result["results"]}
+    result["loadavg_end"] = _loadavg()
     result["benchmark_wall_s"] = time.perf_counter() - t_begin
     return result
 
@@ -611,6 +715,15 @@ def report(res: dict) -> str:
     m = res["machine"]
     L.append(f"wind2d core throughput, single thread -- {m['cpu']} ({m['logical_cpus']} "
              f"logical CPUs), Python {m['python']}, numpy {m['numpy']}, numba {m['numba']}")
+    code = res.get("code", {})
+    la, lb = res.get("loadavg_start"), res.get("loadavg_end")
+    L.append(f"  code: git {code.get('git_head', '?')}"
+             f"{' + modified wind2d/' if code.get('wind2d_modified') else ''}, wind2d sources "
+             f"sha256 {code.get('wind2d_sources_sha256')}; load average at start "
+             f"{la[0] if la else float('nan'):.2f}, end {lb[0] if lb else float('nan'):.2f}")
+    if la and m["logical_cpus"] and max(la[0], lb[0] if lb else 0.0) > m["logical_cpus"] - 0.5:
+        L.append("  WARNING: the machine was busy with other work, so rates are noisy "
+                 "(compare ratios; rerun when idle)")
     for c, lab in res["cases"].items():
         L.append(f"  {c}: {lab}")
     L.append("")
@@ -624,9 +737,18 @@ def report(res: dict) -> str:
                  f"{r['zone_updates_per_s']:11.3e} {r['median_step_zone_updates_per_s']:10.3e} "
                  + (f"{ref:10.3e} {ra:7.4f} {1 / ra:7.1f}x" if ref else f"{'-':>10} {'-':>7} "
                     f"{'-':>8}"))
+    for r in res["results"]:
+        if len(r.get("blocks", ())) > 1:
+            rates = [b["zone_updates_per_s"] for b in r["blocks"]]
+            line = (f"  {r['case']} {r['n']}^2 blocks: zone-upd/s {min(rates):.3e} .. "
+                    f"{max(rates):.3e}")
+            if "ratio" in r["blocks"][0]:
+                rat = [b["ratio"] for b in r["blocks"]]
+                line += f"; ratio {min(rat):.4f} .. {max(rat):.4f}"
+            L.append(line)
     if "reference" in res:
-        L.append(f"  (C reference: {res['reference']['binary']}; median of runs; "
-                 f"{res['reference']['note']})")
+        L.append(f"  C reference: {res['reference']['binary']}; "
+                 f"{res['reference']['note']}")
     L.append("")
     L.append("memory per interior zone:")
     for r in res["results"]:
@@ -637,8 +759,7 @@ def report(res: dict) -> str:
             L.append(f"  {mm['case']:4} {mm['n']:4d}^2: subprocess failed: {mm['error'][-300:]}")
             continue
         rss = mm.get("rss_growth_bytes_per_zone")
-        L.append(f"  {mm['case']:4} {mm['n']:4d}^2 (fresh process): peak-RSS growth "
-                 f"{mm['maxrss_growth_bytes_per_zone']:.0f} B/zone, RSS growth "
+        L.append(f"  {mm['case']:4} {mm['n']:4d}^2 (fresh process): RSS growth "
                  + ("n/a" if rss is None else f"{rss:.0f} B/zone") + ", tracemalloc peak build "
                  f"{mm['tracemalloc_peak_build_bytes_per_zone']:.0f} B/zone, "
                  f"build+steps {mm['tracemalloc_peak_total_bytes_per_zone']:.0f} B/zone")
@@ -672,13 +793,21 @@ def report(res: dict) -> str:
         if not p:
             continue
         L.append("")
-        L.append(f"kernel profile {r['case']} {r['n']}^2 ({p['ms_per_step']:.1f} ms/step over "
-                 f"{p['steps']} steps):")
+        L.append(f"kernel profile {r['case']} {r['n']}^2 ({p['ms_per_step']:.1f} ms/step, "
+                 f"{p['ns_per_zone_per_step']:.0f} ns/zone, over {p['steps']} steps):")
         for name, k in p["kernels"].items():
-            L.append(f"  {name:48} {k['ms_per_step']:9.2f} ms/step {100 * k['fraction']:6.1f}%"
+            L.append(f"  {name:48} {k['ms_per_step']:9.2f} ms/step "
+                     f"{k['ns_per_zone_per_step']:7.1f} ns/zone {100 * k['fraction']:6.1f}%"
                      f"  ({k['calls_per_step']:g} calls/step)")
         L.append(f"  {'Python glue (step minus kernels)':48} {p['python_glue_ms_per_step']:9.2f}"
                  f" ms/step {100 * p['python_glue_fraction']:6.1f}%")
+        iso = p.get("isolated")
+        if iso:
+            L.append(f"  isolated replay of one step's calls (fastest of {iso['replays']}): "
+                     f"{iso['ms_per_step']:.1f} ms/step, {iso['ns_per_zone_per_step']:.0f} ns/zone")
+            for name, k in iso["kernels"].items():
+                L.append(f"    {name:46} {k['ms_per_step']:9.2f} ms/step "
+                         f"{k['ns_per_zone_per_step']:7.1f} ns/zone {100 * k['fraction']:6.1f}%")
     L.append("")
     L.append(f"benchmark wall time {res['benchmark_wall_s']:.0f} s")
     return "\n".join(L)

@@ -23,9 +23,10 @@ gradient taken from the upwind side of the contact (sign of the mass flux).
 from numba import njit
 
 from ..state import IDN, IV1, IV2, IB1, IB2
+from .indexing import ONE, u
 
 
-@njit(cache=True, error_model="numpy")
+@njit(cache=True, error_model="numpy", inline="always")
 def _pick(fm, a, b):
     if fm > 0.0:
         return a
@@ -37,19 +38,19 @@ def _pick(fm, a, b):
 @njit(cache=True, error_model="numpy")
 def corner_emf(W, F1, F2, E3, Ec, js, je, is_, ie, axis_lo):
     """Fill corner fields ``E3[j, i]`` for ``js <= j <= je``, ``is_ <= i <= ie``."""
-    for j in range(js - 1, je + 1):
-        for i in range(is_ - 1, ie + 1):
+    for j in range(u(js) - ONE, u(je) + ONE):
+        for i in range(u(is_) - ONE, u(ie) + ONE):
             Ec[j, i] = W[IV1, j, i] * W[IB2, j, i] - W[IV2, j, i] * W[IB1, j, i]
-    for j in range(js, je + 1):
-        for i in range(is_, ie + 1):
+    for j in range(u(js), u(je) + ONE):
+        for i in range(u(is_), u(ie) + ONE):
             e1n = F1[IB2, j, i]          # axis-1 face (i-1/2, j)
-            e1s = F1[IB2, j - 1, i]      # axis-1 face (i-1/2, j-1)
+            e1s = F1[IB2, j - ONE, i]      # axis-1 face (i-1/2, j-1)
             e2e = -F2[IB1, j, i]         # axis-2 face (i, j-1/2)
-            e2w = -F2[IB1, j, i - 1]     # axis-2 face (i-1, j-1/2)
-            dyu = _pick(F1[IDN, j, i], Ec[j, i - 1] - e2w, Ec[j, i] - e2e)
-            dyd = _pick(F1[IDN, j - 1, i], e2w - Ec[j - 1, i - 1], e2e - Ec[j - 1, i])
-            dxr = _pick(F2[IDN, j, i], Ec[j - 1, i] - e1s, Ec[j, i] - e1n)
-            dxl = _pick(F2[IDN, j, i - 1], e1s - Ec[j - 1, i - 1], e1n - Ec[j, i - 1])
+            e2w = -F2[IB1, j, i - ONE]     # axis-2 face (i-1, j-1/2)
+            dyu = _pick(F1[IDN, j, i], Ec[j, i - ONE] - e2w, Ec[j, i] - e2e)
+            dyd = _pick(F1[IDN, j - ONE, i], e2w - Ec[j - ONE, i - ONE], e2e - Ec[j - ONE, i])
+            dxr = _pick(F2[IDN, j, i], Ec[j - ONE, i] - e1s, Ec[j, i] - e1n)
+            dxl = _pick(F2[IDN, j, i - ONE], e1s - Ec[j - ONE, i - ONE], e1n - Ec[j, i - ONE])
             E3[j, i] = 0.25 * (e1n + e1s + e2e + e2w) - 0.25 * (dyu - dyd + dxr - dxl)
     if axis_lo:
         for j in range(js, je + 1):
@@ -59,25 +60,25 @@ def corner_emf(W, F1, F2, E3, Ec, js, je, is_, ie, axis_lo):
 @njit(cache=True, error_model="numpy")
 def update_faces(b1_0, b2_0, b1, b2, E3, dt, area1, vol1, dx2, js, je, is_, ie):
     """Advance the interior face fields (boundary faces included) by ``dt``."""
-    for j in range(js, je):
+    for j in range(u(js), u(je)):
         r = dt / dx2[j]
-        for i in range(is_, ie + 1):
-            b1[j, i] = b1_0[j, i] + r * (E3[j + 1, i] - E3[j, i])
-    for j in range(js, je + 1):
-        for i in range(is_, ie):
-            b2[j, i] = b2_0[j, i] - dt * (area1[i + 1] * E3[j, i + 1]
+        for i in range(u(is_), u(ie) + ONE):
+            b1[j, i] = b1_0[j, i] + r * (E3[j + ONE, i] - E3[j, i])
+    for j in range(u(js), u(je) + ONE):
+        for i in range(u(is_), u(ie)):
+            b2[j, i] = b2_0[j, i] - dt * (area1[i + ONE] * E3[j, i + ONE]
                                          - area1[i] * E3[j, i]) / vol1[i]
 
 
 @njit(cache=True, error_model="numpy")
 def cell_centred_field(b1, b2, W, area1, j0, j1, i0, i1):
     """Cell-centred B1 (area-weighted along axis 1) and B2 (mean) from the faces."""
-    for j in range(j0, j1):
-        for i in range(i0, i1):
+    for j in range(u(j0), u(j1)):
+        for i in range(u(i0), u(i1)):
             a0 = area1[i]
-            a1 = area1[i + 1]
-            W[IB1, j, i] = (a0 * b1[j, i] + a1 * b1[j, i + 1]) / (a0 + a1)
-            W[IB2, j, i] = 0.5 * (b2[j, i] + b2[j + 1, i])
+            a1 = area1[i + ONE]
+            W[IB1, j, i] = (a0 * b1[j, i] + a1 * b1[j, i + ONE]) / (a0 + a1)
+            W[IB2, j, i] = 0.5 * (b2[j, i] + b2[j + ONE, i])
 
 
 @njit(cache=True, error_model="numpy")

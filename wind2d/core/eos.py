@@ -45,7 +45,7 @@ class Isothermal:
         return f"Isothermal(sound_speed={math.sqrt(self.cs2)})"
 
 
-@njit(cache=True, error_model="numpy")
+@njit(cache=True, error_model="numpy", inline="always")
 def sound_speed2(d, p, gamma, iso, cs2):
     """Square of the sound speed: gamma p / rho, or c_s^2 when isothermal."""
     if iso:
@@ -53,7 +53,7 @@ def sound_speed2(d, p, gamma, iso, cs2):
     return gamma * p / d
 
 
-@njit(cache=True, error_model="numpy")
+@njit(cache=True, error_model="numpy", inline="always")
 def fast_speed(d, p, bn, bt1, bt2, gamma, iso, cs2):
     """Fast magnetosonic speed along the normal direction.
 

@@ -11,6 +11,7 @@ Counter slots (``counters[k]``, int64, cumulative over the run):
 from numba import njit
 
 from ..state import IDN, IM1, IM2, IM3, IEN, IV1, IV2, IV3, IPR, IB1, IB2, IB3
+from .indexing import ONE, u
 from .riemann.hlle import hlle
 
 FALLBACK, DENSITY_FLOOR, PRESSURE_FLOOR = 0, 1, 2
@@ -23,14 +24,14 @@ def cons_to_prim(U, W, b1, b2, area1, gamma, iso, cs2, mhd, nhydro, d_floor, p_f
     """Primitives of the interior cells; floors applied to ``U`` and counted."""
     nv = U.shape[0]
     gm1 = gamma - 1.0
-    for j in range(js, je):
-        for i in range(is_, ie):
+    for j in range(u(js), u(je)):
+        for i in range(u(is_), u(ie)):
             d = U[IDN, j, i]
             if mhd:
                 a0 = area1[i]
-                a1 = area1[i + 1]
-                B1 = (a0 * b1[j, i] + a1 * b1[j, i + 1]) / (a0 + a1)
-                B2 = 0.5 * (b2[j, i] + b2[j + 1, i])
+                a1 = area1[i + ONE]
+                B1 = (a0 * b1[j, i] + a1 * b1[j, i + ONE]) / (a0 + a1)
+                B2 = 0.5 * (b2[j, i] + b2[j + ONE, i])
                 B3 = U[IB3, j, i]
                 U[IB1, j, i] = B1
                 U[IB2, j, i] = B2
@@ -108,24 +109,6 @@ def prim_to_cons(W, U, gamma, iso, mhd, nhydro, js, je, is_, ie):
 
 
 @njit(cache=True, error_model="numpy")
-def _bad_cell(U, b1, b2, area1, j, i, gamma, iso, mhd):
-    d = U[IDN, j, i]
-    if not d > 0.0:
-        return True
-    if iso:
-        return False
-    emag = 0.0
-    if mhd:
-        a0 = area1[i]
-        a1 = area1[i + 1]
-        B1 = (a0 * b1[j, i] + a1 * b1[j, i + 1]) / (a0 + a1)
-        B2 = 0.5 * (b2[j, i] + b2[j + 1, i])
-        emag = 0.5 * (B1 * B1 + B2 * B2 + U[IB3, j, i] ** 2)
-    ek = 0.5 * (U[IM1, j, i] ** 2 + U[IM2, j, i] ** 2 + U[IM3, j, i] ** 2) / d
-    return not (U[IEN, j, i] - ek - emag) > 0.0
-
-
-@njit(cache=True, error_model="numpy")
 def _first_order_flux(W, b, F, dirn, j, i, gamma, iso, cs2, mhd, nhydro):
     # HLLE flux between the cell values either side of face (j, i) of direction dirn
     if dirn == 1:
@@ -160,13 +143,22 @@ def _first_order_flux(W, b, F, dirn, j, i, gamma, iso, cs2, mhd, nhydro):
 def find_bad_cells(U, b1, b2, area1, gamma, iso, mhd, flags, js, je, is_, ie):
     """Mark interior cells with non-positive density or pressure; return their number."""
     nbad = 0
-    for j in range(js, je):
-        for i in range(is_, ie):
-            if _bad_cell(U, b1, b2, area1, j, i, gamma, iso, mhd):
-                flags[j, i] = 1
-                nbad += 1
-            else:
-                flags[j, i] = 0
+    for j in range(u(js), u(je)):
+        for i in range(u(is_), u(ie)):
+            d = U[IDN, j, i]
+            bad = not d > 0.0
+            if not iso and not bad:
+                emag = 0.0
+                if mhd:
+                    a0 = area1[i]
+                    a1 = area1[i + ONE]
+                    B1 = (a0 * b1[j, i] + a1 * b1[j, i + ONE]) / (a0 + a1)
+                    B2 = 0.5 * (b2[j, i] + b2[j + ONE, i])
+                    emag = 0.5 * (B1 * B1 + B2 * B2 + U[IB3, j, i] ** 2)
+                ek = 0.5 * (U[IM1, j, i] ** 2 + U[IM2, j, i] ** 2 + U[IM3, j, i] ** 2) / d
+                bad = not (U[IEN, j, i] - ek - emag) > 0.0
+            flags[j, i] = 1 if bad else 0
+            nbad += 1 if bad else 0
     return nbad
 
 

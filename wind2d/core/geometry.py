@@ -21,27 +21,28 @@ geometry, 1 in Cartesian), volume ``V`` and axis-2 width ``dz``:
 from numba import njit
 
 from ..state import IDN, IM1, IM3, IEN, IPR, IV3, IB1, IB2, IB3
+from .indexing import ONE, u
 
 
 @njit(cache=True, error_model="numpy", inline="always")
 def _rate(v, j, i, W, F1, F2, area1, h1f, h1c, vol1, geo1, dx1, dx2, cyl, mhd):
     """Flux divergence minus geometric source of variable ``v`` in cell (j, i)."""
-    g2 = (F2[v, j + 1, i] - F2[v, j, i]) / dx2[j]
+    g2 = (F2[v, j + ONE, i] - F2[v, j, i]) / dx2[j]
     if v == IM3:
-        g1 = (area1[i + 1] * h1f[i + 1] * F1[v, j, i + 1]
+        g1 = (area1[i + ONE] * h1f[i + ONE] * F1[v, j, i + ONE]
               - area1[i] * h1f[i] * F1[v, j, i]) / (vol1[i] * h1c[i])
     elif v == IB3:
-        g1 = (F1[v, j, i + 1] - F1[v, j, i]) / dx1[i]
+        g1 = (F1[v, j, i + ONE] - F1[v, j, i]) / dx1[i]
     elif v == IM1 and cyl:
         pst = W[IPR, j, i]
         src = W[IDN, j, i] * W[IV3, j, i] * W[IV3, j, i]
         if mhd:
             pst += 0.5 * (W[IB1, j, i] ** 2 + W[IB2, j, i] ** 2 + W[IB3, j, i] ** 2)
             src -= W[IB3, j, i] * W[IB3, j, i]
-        g1 = (area1[i + 1] * (F1[v, j, i + 1] - pst)
+        g1 = (area1[i + ONE] * (F1[v, j, i + ONE] - pst)
               - area1[i] * (F1[v, j, i] - pst)) / vol1[i] - src * geo1[i]
     else:
-        g1 = (area1[i + 1] * F1[v, j, i + 1] - area1[i] * F1[v, j, i]) / vol1[i]
+        g1 = (area1[i + ONE] * F1[v, j, i + ONE] - area1[i] * F1[v, j, i]) / vol1[i]
     return g1 + g2
 
 
@@ -56,28 +57,28 @@ def update_cells(U0, U1, W, F1, F2, dt, area1, h1f, h1c, vol1, geo1, dx1, dx2,
     for v in range(nv):
         if (mhd and (v == IB1 or v == IB2)) or (iso and v == IEN):
             continue
-        for j in range(js, je):
+        for j in range(u(js), u(je)):
             r2 = dt / dx2[j]
             if v == IM3:
-                for i in range(is_, ie):
+                for i in range(u(is_), u(ie)):
                     U1[v, j, i] = (U0[v, j, i]
-                                   - dt * (area1[i + 1] * h1f[i + 1] * F1[v, j, i + 1]
+                                   - dt * (area1[i + ONE] * h1f[i + ONE] * F1[v, j, i + ONE]
                                            - area1[i] * h1f[i] * F1[v, j, i]) / (vol1[i] * h1c[i])
-                                   - r2 * (F2[v, j + 1, i] - F2[v, j, i]))
+                                   - r2 * (F2[v, j + ONE, i] - F2[v, j, i]))
             elif v == IB3:
-                for i in range(is_, ie):
-                    U1[v, j, i] = (U0[v, j, i] - dt * (F1[v, j, i + 1] - F1[v, j, i]) / dx1[i]
-                                   - r2 * (F2[v, j + 1, i] - F2[v, j, i]))
+                for i in range(u(is_), u(ie)):
+                    U1[v, j, i] = (U0[v, j, i] - dt * (F1[v, j, i + ONE] - F1[v, j, i]) / dx1[i]
+                                   - r2 * (F2[v, j + ONE, i] - F2[v, j, i]))
             elif v == IM1 and cyl:
-                for i in range(is_, ie):
+                for i in range(u(is_), u(ie)):
                     U1[v, j, i] = U0[v, j, i] - dt * _rate(v, j, i, W, F1, F2, area1, h1f, h1c,
                                                            vol1, geo1, dx1, dx2, cyl, mhd)
             else:
-                for i in range(is_, ie):
+                for i in range(u(is_), u(ie)):
                     U1[v, j, i] = (U0[v, j, i]
-                                   - dt * (area1[i + 1] * F1[v, j, i + 1]
+                                   - dt * (area1[i + ONE] * F1[v, j, i + ONE]
                                            - area1[i] * F1[v, j, i]) / vol1[i]
-                                   - r2 * (F2[v, j + 1, i] - F2[v, j, i]))
+                                   - r2 * (F2[v, j + ONE, i] - F2[v, j, i]))
 
 
 @njit(cache=True, error_model="numpy")
@@ -85,8 +86,8 @@ def update_flagged(U0, U1, W, F1, F2, dt, area1, h1f, h1c, vol1, geo1, dx1, dx2,
                    cyl, mhd, iso, flags, js, je, is_, ie):
     """As ``update_cells`` but only for cells with a non-zero flag."""
     nv = U0.shape[0]
-    for j in range(js, je):
-        for i in range(is_, ie):
+    for j in range(u(js), u(je)):
+        for i in range(u(is_), u(ie)):
             if flags[j, i] == 0:
                 continue
             for v in range(nv):

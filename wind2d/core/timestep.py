@@ -9,6 +9,7 @@ from numba import njit
 
 from ..state import IDN, IV1, IV2, IPR, IB1, IB2, IB3
 from .eos import fast_speed
+from .indexing import u
 
 
 @njit(cache=True, error_model="numpy")
@@ -16,9 +17,9 @@ def max_signal_rate(W, dx1, dx2, gamma, iso, cs2, mhd, js, je, is_, ie):
     """Largest (|v| + c_f)/dx over the interior; -1 if a cell is not finite or
     has non-positive density or pressure."""
     smax = 0.0
-    for j in range(js, je):
+    for j in range(u(js), u(je)):
         idx2 = 1.0 / dx2[j]
-        for i in range(is_, ie):
+        for i in range(u(is_), u(ie)):
             d = W[IDN, j, i]
             p = W[IPR, j, i]
             if not (d > 0.0 and p > 0.0 and d < 1e308 and p < 1e308):

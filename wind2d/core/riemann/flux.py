@@ -10,7 +10,7 @@ units.  With total pressure ``pt = p + B^2/2``:
 from numba import njit
 
 
-@njit(cache=True, error_model="numpy")
+@njit(cache=True, error_model="numpy", inline="always")
 def total_energy(d, un, ut1, ut2, p, bn, bt1, bt2, gamma, iso):
     """E = p/(gamma-1) + rho u^2/2 + B^2/2 (0 for the isothermal EOS)."""
     if iso:
@@ -19,7 +19,7 @@ def total_energy(d, un, ut1, ut2, p, bn, bt1, bt2, gamma, iso):
         + 0.5 * (bn * bn + bt1 * bt1 + bt2 * bt2)
 
 
-@njit(cache=True, error_model="numpy")
+@njit(cache=True, error_model="numpy", inline="always")
 def physical_flux(d, un, ut1, ut2, p, bn, bt1, bt2, e):
     """Return the 7 flux components for one state with total energy ``e``."""
     pt = p + 0.5 * (bn * bn + bt1 * bt1 + bt2 * bt2)

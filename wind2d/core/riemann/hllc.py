@@ -21,7 +21,7 @@ from ..eos import sound_speed2
 from .flux import physical_flux, total_energy
 
 
-@njit(cache=True, error_model="numpy")
+@njit(cache=True, error_model="numpy", inline="always")
 def hllc(dl, unl, ut1l, ut2l, pl, bt1l, bt2l,
          dr, unr, ut1r, ut2r, pr, bt1r, bt2r, bn, gamma, iso, cs2):
     cl = math.sqrt(sound_speed2(dl, pl, gamma, iso, cs2))

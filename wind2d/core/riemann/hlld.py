@@ -26,7 +26,7 @@ from .hlle import hlle
 _SMALL = 1.0e-12
 
 
-@njit(cache=True, error_model="numpy")
+@njit(cache=True, error_model="numpy", inline="always")
 def hlld(dl, unl, ut1l, ut2l, pl, bt1l, bt2l,
          dr, unr, ut1r, ut2r, pr, bt1r, bt2r, bn, gamma, iso, cs2):
     cl = fast_speed(dl, pl, bn, bt1l, bt2l, gamma, iso, cs2)

@@ -15,7 +15,7 @@ from ..eos import fast_speed
 from .flux import physical_flux, total_energy
 
 
-@njit(cache=True, error_model="numpy")
+@njit(cache=True, error_model="numpy", inline="always")
 def hlle(dl, unl, ut1l, ut2l, pl, bt1l, bt2l,
          dr, unr, ut1r, ut2r, pr, bt1r, bt2r, bn, gamma, iso, cs2):
     cl = fast_speed(dl, pl, bn, bt1l, bt2l, gamma, iso, cs2)
