@@ -25,26 +25,16 @@ from .riemann.hllc import hllc
 from .riemann.hlld import hlld
 
 
-@njit(cache=True, error_model="numpy", inline="always")
-def _store(f, F, j, i, iN, iT, iBN, iBT, mhd):
-    F[IDN, j, i] = f[0]
-    F[iN, j, i] = f[1]
-    F[iT, j, i] = f[2]
-    F[IV3, j, i] = f[3]
-    F[IPR, j, i] = f[4]
-    if mhd:
-        F[iBN, j, i] = 0.0
-        F[iBT, j, i] = f[5]
-        F[IB3, j, i] = f[6]
-
-
 @njit(cache=True, error_model="numpy")
-def solve_row(solver, WL, WR, b, F, j, f0, f1, iN, iT, iBN, iBT, mhd, gamma, iso, cs2,
+def solve_row(solver, WL, WR, b, F, G, j, f0, f1, iN, iT, iBN, iBT, mhd, gamma, iso, cs2,
               nscal, iscal):
     """Riemann fluxes of faces ``f0 <= i < f1`` of row ``j`` from the face states.
 
     ``iN``/``iT`` are the normal and in-plane tangential velocity slots,
     ``iBN``/``iBT`` the same for the field; ``b[j, i]`` is the face normal field.
+    The solver loop writes the 7 flux components in solver order to the row
+    buffer ``G[7, :]``; a second loop scatters them to the variable slots of
+    ``F``.  (Scattering inside the HLLD loop measured five times slower.)
     """
     jr = u(j)
     ia = u(f0)
@@ -54,27 +44,42 @@ def solve_row(solver, WL, WR, b, F, j, f0, f1, iN, iT, iBN, iBT, mhd, gamma, iso
             f = hllc(WL[IDN, i], WL[iN, i], WL[iT, i], WL[IV3, i], WL[IPR, i], 0.0, 0.0,
                      WR[IDN, i], WR[iN, i], WR[iT, i], WR[IV3, i], WR[IPR, i], 0.0, 0.0,
                      0.0, gamma, iso, cs2)
-            _store(f, F, jr, i, iN, iT, iBN, iBT, False)
+            for k in range(7):
+                G[k, i] = f[k]
     elif solver == 2:
         for i in range(ia, ib):
             f = hlld(WL[IDN, i], WL[iN, i], WL[iT, i], WL[IV3, i], WL[IPR, i],
                      WL[iBT, i], WL[IB3, i],
                      WR[IDN, i], WR[iN, i], WR[iT, i], WR[IV3, i], WR[IPR, i],
                      WR[iBT, i], WR[IB3, i], b[jr, i], gamma, iso, cs2)
-            _store(f, F, jr, i, iN, iT, iBN, iBT, True)
+            for k in range(7):
+                G[k, i] = f[k]
     elif mhd:
         for i in range(ia, ib):
             f = hlle(WL[IDN, i], WL[iN, i], WL[iT, i], WL[IV3, i], WL[IPR, i],
                      WL[iBT, i], WL[IB3, i],
                      WR[IDN, i], WR[iN, i], WR[iT, i], WR[IV3, i], WR[IPR, i],
                      WR[iBT, i], WR[IB3, i], b[jr, i], gamma, iso, cs2)
-            _store(f, F, jr, i, iN, iT, iBN, iBT, True)
+            for k in range(7):
+                G[k, i] = f[k]
     else:
         for i in range(ia, ib):
             f = hlle(WL[IDN, i], WL[iN, i], WL[iT, i], WL[IV3, i], WL[IPR, i], 0.0, 0.0,
                      WR[IDN, i], WR[iN, i], WR[iT, i], WR[IV3, i], WR[IPR, i], 0.0, 0.0,
                      0.0, gamma, iso, cs2)
-            _store(f, F, jr, i, iN, iT, iBN, iBT, False)
+            for k in range(7):
+                G[k, i] = f[k]
+    for i in range(ia, ib):
+        F[IDN, jr, i] = G[0, i]
+        F[iN, jr, i] = G[1, i]
+        F[iT, jr, i] = G[2, i]
+        F[IV3, jr, i] = G[3, i]
+        F[IPR, jr, i] = G[4, i]
+    if mhd:
+        for i in range(ia, ib):
+            F[iBN, jr, i] = 0.0
+            F[iBT, jr, i] = G[5, i]
+            F[IB3, jr, i] = G[6, i]
     # passive scalars: upwinded with the mass flux (kept out of the solver loops,
     # where a loop of run-time length made them several times slower)
     for s in range(nscal):
@@ -90,7 +95,7 @@ def _unphysical(d0, d1, p0, p1):
 
 @njit(cache=True, error_model="numpy")
 def sweep1(W, b1, F, geo, limiter, solver, gamma, iso, cs2, mhd, nscal, iscal,
-           j0, j1, f0, f1, WL, WR):
+           j0, j1, f0, f1, WL, WR, G):
     """Axis-1 fluxes on rows ``j0 <= j < j1`` and faces ``f0 <= i < f1``.
 
     ``WL``/``WR`` are row buffers ``[nvar, nt1 + 1]``: cell ``k`` writes its
@@ -113,13 +118,13 @@ def sweep1(W, b1, F, geo, limiter, solver, gamma, iso, cs2, mhd, nscal, iscal,
                     for v in range(nv):
                         WR[v, k] = W[v, j, k]
                         WL[v, k + ONE] = W[v, j, k]
-        solve_row(solver, WL, WR, b1, F, j, f0, f1, IV1, IV2, IB1, IB2, mhd, gamma, iso, cs2,
+        solve_row(solver, WL, WR, b1, F, G, j, f0, f1, IV1, IV2, IB1, IB2, mhd, gamma, iso, cs2,
                   nscal, iscal)
 
 
 @njit(cache=True, error_model="numpy")
 def sweep2(W, b2, F, geo, limiter, solver, gamma, iso, cs2, mhd, nscal, iscal,
-           f0, f1, i0, i1, WL, WR, S):
+           f0, f1, i0, i1, WL, WR, S, G):
     """Axis-2 fluxes on faces ``f0 <= j < f1`` and columns ``i0 <= i < i1``.
 
     For each cell row ``j`` the slopes go to ``S``; the lower-face values fill
@@ -152,7 +157,7 @@ def sweep2(W, b2, F, geo, limiter, solver, gamma, iso, cs2, mhd, nscal, iscal,
             for v in range(nv):
                 for i in range(ia, ib):
                     WR[v, i] = W[v, j, i] + S[v, i] * dfl
-            solve_row(solver, WL, WR, b2, F, j, ia, ib, IV2, IV1, IB2, IB1, mhd, gamma, iso,
+            solve_row(solver, WL, WR, b2, F, G, j, ia, ib, IV2, IV1, IB2, IB1, mhd, gamma, iso,
                       cs2, nscal, iscal)
         for v in range(nv):
             for i in range(ia, ib):

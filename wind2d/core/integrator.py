@@ -39,6 +39,7 @@ class Integrator:
         self.E3 = np.zeros((m.nt2 + 1, m.nt1 + 1) if self.mhd else (1, 1))
         self.Ec = np.zeros((m.nt2, m.nt1) if self.mhd else (1, 1))
         self.rows = [np.zeros((nv, m.nt1 + 1)) for _ in range(3)]
+        self.frow = np.zeros((7, m.nt1 + 1))     # solver-ordered fluxes of one row
         self.flags = np.zeros((m.nt2, m.nt1), dtype=np.int8)
         self.counters = np.zeros(len(floors.COUNTER_NAMES), dtype=np.int64)
         self.g1 = axis_coefficients(m.x1f, self._mirrored_centres(m.x1f, m.x1c, 1))
@@ -78,9 +79,9 @@ class Integrator:
         vm, r = self.varmap, self.rows
         nscal = len(vm.scalars)
         sweep1(self.W, b1, self.F1, self.g1, limiter, self.solver, g, iso, cs2, self.mhd,
-               nscal, vm.iscal, *self.r1, r[0], r[1])
+               nscal, vm.iscal, *self.r1, r[0], r[1], self.frow)
         sweep2(self.W, b2, self.F2, self.g2, limiter, self.solver, g, iso, cs2, self.mhd,
-               nscal, vm.iscal, *self.r2, r[0], r[1], r[2])
+               nscal, vm.iscal, *self.r2, r[0], r[1], r[2], self.frow)
 
     def _faces(self, st: State, out: State, dt: float) -> None:
         m = self.mesh
