@@ -230,6 +230,42 @@ class Simulation:
         self.integrator.max_dt()     # checks the final state is finite
         return n
 
+    # --------------------------------------------------------------- restart
+    def export_state(self) -> dict:
+        """Everything needed to continue bitwise identically (copies).
+
+        Interior conserved cells ``U`` (with the cell-centred B1, B2 slots), the
+        interior face fields (boundary faces included), time, step count, last
+        step, and the positivity counters.
+        """
+        m, st = self.mesh, self.state
+        out = {"U": st.U[:, m.js:m.je, m.is_:m.ie].copy(), "t": self.t, "nstep": self.nstep,
+               "dt_last": self.dt_last, "counters": self.integrator.counters.copy()}
+        if self.varmap.mhd:
+            out["b1"] = st.b1[m.js:m.je, m.is_:m.ie + 1].copy()
+            out["b2"] = st.b2[m.js:m.je + 1, m.is_:m.ie].copy()
+        return out
+
+    def restore_state(self, data: dict) -> None:
+        """Inverse of :meth:`export_state`; shapes must match this simulation."""
+        m, st = self.mesh, self.state
+        want = (self.varmap.nvar, m.n2, m.n1)
+        if tuple(data["U"].shape) != want:
+            raise ParameterError(f"restart: saved cells have shape {tuple(data['U'].shape)}, "
+                                 f"this run needs {want}")
+        st.U[:, m.js:m.je, m.is_:m.ie] = data["U"]
+        if self.varmap.mhd:
+            st.b1[m.js:m.je, m.is_:m.ie + 1] = data["b1"]
+            st.b2[m.js:m.je + 1, m.is_:m.ie] = data["b2"]
+        self.t = float(data["t"])
+        self.nstep = int(data["nstep"])
+        self.dt_last = float(data["dt_last"])
+        self.integrator.counters[:] = data["counters"]
+        saved = self.integrator.counters.copy()
+        self.integrator.primitives(st)
+        # recomputing the primitives of a saved state is not a new floor activation
+        self.integrator.counters[:] = saved
+
     # --------------------------------------------------------------- output
     @property
     def field_names(self) -> tuple[str, ...]:

@@ -1,0 +1,158 @@
+"""The ``wind2d`` command: run, resume, check, info, plot.
+
+Invalid input (problem file, overrides, run directory) prints one clear
+message and exits with status 2, never a traceback.
+"""
+from __future__ import annotations
+
+import argparse
+import json
+import sys
+from pathlib import Path
+
+from . import __version__
+
+EPILOG = ("exit status: 0 finished, 1 internal error, 2 invalid input, 3 stopped by a "
+          "signal (checkpoint written), 4 wall-clock limit (checkpoint written), "
+          "5 non-finite state (crash dump written)")
+
+
+def _walltime(text):
+    from .problem.schema import _wallclock_seconds
+    try:
+        return _wallclock_seconds(text)
+    except ValueError as exc:
+        raise argparse.ArgumentTypeError(str(exc)) from None
+
+
+def parser() -> argparse.ArgumentParser:
+    ap = argparse.ArgumentParser(prog="wind2d", description="Axisymmetric (R, z) MHD runs "
+                                 "for galactic-wind studies.", epilog=EPILOG)
+    ap.add_argument("--version", action="version", version=f"wind2d {__version__}")
+    sub = ap.add_subparsers(dest="command", metavar="COMMAND")
+    sub.required = True
+
+    r = sub.add_parser("run", help="start a run from a problem file", epilog=EPILOG)
+    r.add_argument("problem", help="YAML problem file")
+    r.add_argument("--out", type=Path, help="run directory (default runs/<file name>)")
+    r.add_argument("--set", dest="overrides", action="append", default=[],
+                   metavar="KEY.PATH=VALUE", help="override a key of the problem file "
+                   "(repeatable), e.g. --set grid.R.cells=256")
+    r.add_argument("--walltime", type=_walltime, help="wall-clock limit HH:MM:SS; the run "
+                   "checkpoints and exits before it")
+    r.add_argument("--quiet", action="store_true", help="log to the run directory only")
+
+    s = sub.add_parser("resume", help="continue a run from its newest valid checkpoint",
+                       epilog=EPILOG)
+    s.add_argument("run_dir", type=Path)
+    s.add_argument("--walltime", type=_walltime, help="wall-clock limit HH:MM:SS")
+    s.add_argument("--quiet", action="store_true")
+
+    c = sub.add_parser("check", help="validate a problem file and show what it would run")
+    c.add_argument("problem")
+    c.add_argument("--set", dest="overrides", action="append", default=[],
+                   metavar="KEY.PATH=VALUE")
+
+    i = sub.add_parser("info", help="what a run is, how far it got, its outputs")
+    i.add_argument("run_dir", type=Path)
+
+    p = sub.add_parser("plot", help="PNG slice of one field of a snapshot")
+    p.add_argument("snapshot", type=Path)
+    p.add_argument("--field", required=True, help="field name, e.g. rho, T, p, vz, Bz")
+    p.add_argument("--output", type=Path, help="PNG file (default next to the snapshot)")
+    p.add_argument("--linear", action="store_true", help="never use a log scale")
+    return ap
+
+
+def cmd_check(args) -> int:
+    from .problem import build_simulation, load
+    res = load(args.problem, args.overrides)
+    sim = build_simulation(res)
+    p, us = res.problem, res.units
+    m = sim.mesh
+    print(f"{args.problem}: valid. {p.title}")
+    print(f"code units: length {us.length}, time {us.time}, mass {us.mass} "
+          f"(mu = {us.mu}); field unit {us.to_cgs('magnetic_field'):.4g} G")
+    for name, spec, e in zip(m.axis_names, m.spec, m.edges()):
+        w = e[1:] - e[:-1]
+        print(f"grid {name}: {us.describe(spec.lo, 'length')} .. {us.describe(spec.hi, 'length')},"
+              f" {spec.cells} cells, widths {us.describe(w.min(), 'length')} .. "
+              f"{us.describe(w.max(), 'length')}")
+    print(f"edges: " + ", ".join(f"{k}: {v if isinstance(v, str) else v.get('kind')}"
+                                for k, v in p.edges.items()))
+    print(f"gas: eos {p.gas.eos}, gamma {p.gas.gamma:.6g}, magnetised {p.gas.magnetised}, "
+          f"floors density {us.describe(p.gas.floors.density, 'density')}, pressure "
+          f"{us.describe(p.gas.floors.pressure, 'pressure')}")
+    print(f"scheme: riemann {sim.options['riemann']}, {p.scheme.reconstruction} "
+          f"({p.scheme.limiter}), courant {p.scheme.courant}")
+    print(f"setup: {p.setup.kind} " + json.dumps(res.setup_params.model_dump(), default=str))
+    print(f"stop: t = {us.describe(p.stop.time, 'time')}")
+    cells = m.n1 * m.n2
+    per_zone = 450 if sim.varmap.mhd else 250      # measured by tools/bench_core.py
+    dt0 = sim.integrator.max_dt()
+    steps = p.stop.time / dt0 if dt0 > 0 else float("inf")
+    rate = 5e6 if sim.varmap.mhd else 1.5e7
+    print(f"memory: about {cells * per_zone / 2**20:.1f} MiB for {cells} cells")
+    print(f"cost: first step dt = {dt0:.4g} {us.time}; about {steps:.3g} steps, "
+          f"{steps * cells:.3g} zone-updates, ~{steps * cells / rate / 60:.3g} min on one core "
+          "(the step may shrink as the flow develops)")
+    return 0
+
+
+def cmd_info(args) -> int:
+    from .problem.load import ProblemError
+    d = args.run_dir
+    st = d / "status.json"
+    if not st.is_file():
+        raise ProblemError(str(d), ["not a run directory (no status.json)"])
+    status = json.loads(st.read_text())
+    print(f"{d}: {status.get('title')}")
+    print(f"state: {status['state']}" + (f" ({status['reason']})" if status.get("reason") else ""))
+    print(f"reached t = {status['time']:.6g} {status.get('time_unit', '')} at step {status['step']}")
+    snaps = sorted((d / "snapshots").glob("snapshot_*.h5"))
+    ckpts = sorted((d / "checkpoints").glob("checkpoint_*.h5"))
+    print(f"snapshots: {len(snaps)}" + (f" ({snaps[0].name} .. {snaps[-1].name})" if snaps else ""))
+    print(f"checkpoints: {len(ckpts)}" + (f" (newest {ckpts[-1].name})" if ckpts else ""))
+    hist = d / "history.csv"
+    if hist.is_file():
+        n = sum(1 for line in hist.open() if line.strip() and not line.startswith("#")) - 1
+        print(f"history: {max(n, 0)} rows in {hist.name}")
+    return 0
+
+
+def cmd_plot(args) -> int:
+    from .viz.slice import plot_snapshot
+    out = plot_snapshot(args.snapshot, args.field, args.output, log=None if not args.linear
+                        else False)
+    print(out)
+    return 0
+
+
+def main(argv=None) -> int:
+    from .errors import ParameterError
+    from .problem.load import ProblemError
+    args = parser().parse_args(argv)
+    try:
+        if args.command == "run":
+            from .run import start
+            return start(args.problem, args.out, args.overrides, args.walltime, args.quiet)
+        if args.command == "resume":
+            from .run import resume
+            return resume(args.run_dir, args.walltime, args.quiet)
+        if args.command == "check":
+            return cmd_check(args)
+        if args.command == "info":
+            return cmd_info(args)
+        if args.command == "plot":
+            return cmd_plot(args)
+    except (ProblemError, ParameterError) as exc:
+        print(f"wind2d {args.command}: {exc}", file=sys.stderr)
+        return 2
+    except FileNotFoundError as exc:
+        print(f"wind2d {args.command}: {exc.filename}: no such file", file=sys.stderr)
+        return 2
+    return 1
+
+
+if __name__ == "__main__":
+    sys.exit(main())

@@ -1,0 +1,219 @@
+"""Loading problem files: YAML, ``extends``, ``--set`` overrides, validation.
+
+Everything is checked before any computation starts.  Problems are reported
+as :class:`ProblemError`, whose message names the file, the key path and the
+allowed values; the command line turns it into exit status 2 without a
+traceback.
+"""
+from __future__ import annotations
+
+import copy
+import difflib
+import typing
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any
+
+import yaml
+from pydantic import BaseModel, ValidationError
+
+from ..errors import ParameterError
+from .schema import Problem
+from .units import UnitSystem
+
+MAX_EXTENDS = 8
+
+
+class ProblemError(ValueError):
+    """An invalid problem file; ``str()`` is the message for the user."""
+
+    def __init__(self, source: str, messages: list[str]):
+        self.source = source
+        self.messages = messages
+        super().__init__(f"{source}: invalid problem file\n" + "\n".join(f"  - {m}" for m in messages))
+
+
+def _read_yaml(path: Path) -> dict:
+    try:
+        raw = path.read_bytes()
+    except OSError as exc:
+        raise ProblemError(str(path), [f"cannot read the file: {exc.strerror}"]) from None
+    try:
+        text = raw.decode("utf-8")
+    except UnicodeDecodeError:
+        raise ProblemError(str(path), ["the file is not UTF-8 text (binary file?)"]) from None
+    try:
+        data = yaml.safe_load(text)
+    except yaml.YAMLError as exc:
+        mark = getattr(exc, "problem_mark", None)
+        where = f"line {mark.line + 1}, column {mark.column + 1}: " if mark else ""
+        what = getattr(exc, "problem", None) or str(exc).splitlines()[0]
+        raise ProblemError(str(path), [f"YAML syntax error at {where}{what}"]) from None
+    if data is None:
+        raise ProblemError(str(path), ["the file is empty; a problem file is a YAML mapping "
+                                       "with at least title, grid, edges, setup and stop"])
+    if not isinstance(data, dict):
+        raise ProblemError(str(path), [f"the top level must be a mapping of keys, not a "
+                                       f"{type(data).__name__}"])
+    return data
+
+
+def merge(base: dict, over: dict) -> dict:
+    """Deep merge: mappings merge key by key, anything else in ``over`` replaces."""
+    out = copy.deepcopy(base)
+    for k, v in over.items():
+        if isinstance(v, dict) and isinstance(out.get(k), dict):
+            out[k] = merge(out[k], v)
+        else:
+            out[k] = copy.deepcopy(v)
+    return out
+
+
+def read_with_bases(path: Path, depth: int = 0, seen: tuple = ()) -> dict:
+    """Read a file and the chain of files it ``extends`` (paths relative to it)."""
+    path = Path(path)
+    if depth > MAX_EXTENDS or path.resolve() in seen:
+        raise ProblemError(str(path), ["'extends' forms a cycle or is nested too deep"])
+    data = _read_yaml(path)
+    base = data.pop("extends", None)
+    if base is None:
+        return data
+    if not isinstance(base, str):
+        raise ProblemError(str(path), ["extends: must be the path of a base problem file"])
+    bpath = (path.parent / base)
+    if not bpath.is_file():
+        raise ProblemError(str(path), [f"extends: base file {base!r} not found "
+                                       f"(looked for {bpath})"])
+    return merge(read_with_bases(bpath, depth + 1, seen + (path.resolve(),)), data)
+
+
+def apply_overrides(data: dict, overrides: list[str], source: str) -> dict:
+    """``key.path=value`` settings (value parsed as a YAML scalar or flow collection)."""
+    data = copy.deepcopy(data)
+    for item in overrides:
+        if "=" not in item:
+            raise ProblemError(source, [f"--set {item!r}: expected key.path=value"])
+        key, _, text = item.partition("=")
+        parts = [p for p in key.strip().split(".")]
+        if not all(parts):
+            raise ProblemError(source, [f"--set {item!r}: empty key in {key!r}"])
+        try:
+            value = yaml.safe_load(text) if text.strip() else ""
+        except yaml.YAMLError:
+            raise ProblemError(source, [f"--set {item!r}: cannot parse the value"]) from None
+        node = data
+        for p in parts[:-1]:
+            if not isinstance(node.get(p, {}), dict):
+                raise ProblemError(source, [f"--set {item!r}: {p!r} is not a section"])
+            node = node.setdefault(p, {})
+        node[parts[-1]] = value
+    return data
+
+
+def _unwrap(tp):
+    origin = typing.get_origin(tp)
+    if origin in (typing.Union, getattr(__import__("types"), "UnionType", None)):
+        args = [a for a in typing.get_args(tp) if a is not type(None)]
+        return _unwrap(args[0]) if len(args) == 1 else tp
+    if origin is typing.Annotated:
+        return _unwrap(typing.get_args(tp)[0])
+    return tp
+
+
+def _model_at(model: type[BaseModel], loc: tuple) -> type[BaseModel] | None:
+    for part in loc:
+        if not (isinstance(model, type) and issubclass(model, BaseModel)):
+            return None
+        field = None
+        for name, f in model.model_fields.items():
+            if part in (name, f.alias):
+                field = f
+        if field is None:
+            return None
+        model = _unwrap(field.annotation)
+    return model if isinstance(model, type) and issubclass(model, BaseModel) else None
+
+
+def _keys_of(model: type[BaseModel]) -> list[str]:
+    return [f.alias or n for n, f in model.model_fields.items()]
+
+
+def describe_errors(exc: ValidationError, root: type[BaseModel], prefix: str = "") -> list[str]:
+    """Readable messages from a pydantic error: key path, what is wrong, what is allowed."""
+    out = []
+    for e in exc.errors():
+        loc = tuple(e["loc"])
+        path = prefix + ".".join(str(p) for p in loc) if loc else (prefix.rstrip(".") or "(top)")
+        kind = e["type"]
+        if kind == "extra_forbidden":
+            parent = _model_at(root, loc[:-1])
+            allowed = _keys_of(parent) if parent else []
+            near = difflib.get_close_matches(str(loc[-1]), allowed, n=1)
+            hint = f" (did you mean '{near[0]}'?)" if near else ""
+            out.append(f"{path}: unknown key{hint}; allowed keys here: {', '.join(allowed)}")
+        elif kind == "missing":
+            out.append(f"{path}: required key is missing")
+        else:
+            msg = e["msg"]
+            if msg.startswith("Value error, "):
+                msg = msg[len("Value error, "):]
+            got = e.get("input")
+            shown = "" if isinstance(got, (dict, list)) or got is None else f" (got {got!r})"
+            out.append(f"{path}: {msg}{shown}")
+    return out
+
+
+@dataclass
+class Resolved:
+    """A validated problem: the schema model, setup parameters, units and the
+    resolved YAML text (after ``extends`` and overrides)."""
+    problem: Problem
+    setup_params: Any
+    units: UnitSystem
+    text: str
+    source: str
+    raw: dict
+
+
+def resolve(data: dict, source: str) -> Resolved:
+    """Validate a merged problem mapping completely."""
+    from .. import setups
+
+    errors: list[str] = []
+    units_raw = data.get("units", {}) or {}
+    gas_raw = data.get("gas", {}) or {}
+    mu = gas_raw.get("mean_molecular_weight", 0.6) if isinstance(gas_raw, dict) else 0.6
+    try:
+        from .schema import UnitsSpec
+        uspec = UnitsSpec.model_validate(units_raw)
+        mu = float(mu) if isinstance(mu, (int, float)) and not isinstance(mu, bool) and mu > 0 \
+            else 0.6
+        units = UnitSystem(uspec.length, uspec.time, uspec.mass, mu)
+    except ValidationError as exc:
+        raise ProblemError(source, describe_errors(exc, UnitsSpec, "units.")) from None
+    except ParameterError as exc:
+        raise ProblemError(source, [str(exc)]) from None
+    try:
+        problem = Problem.model_validate(data, context={"units": units})
+    except ValidationError as exc:
+        errors = describe_errors(exc, Problem)
+        raise ProblemError(source, errors) from None
+    try:
+        cls = setups.get(problem.setup.kind)
+    except ParameterError as exc:
+        raise ProblemError(source, [str(exc)]) from None
+    params_raw = {k: v for k, v in (problem.setup.model_extra or {}).items()}
+    try:
+        params = cls.Params.model_validate(params_raw, context={"units": units})
+    except ValidationError as exc:
+        raise ProblemError(source, describe_errors(exc, cls.Params, "setup.")) from None
+    text = yaml.safe_dump(data, sort_keys=False)
+    return Resolved(problem, params, units, text, source, data)
+
+
+def load(path, overrides: list[str] | None = None) -> Resolved:
+    """Read, merge, override and validate a problem file."""
+    path = Path(path)
+    data = read_with_bases(path)
+    data = apply_overrides(data, overrides or [], str(path))
+    return resolve(data, str(path))

@@ -1,0 +1,225 @@
+"""The problem-file schema (pydantic models), with units.
+
+Quantities are written with units (``"10 kpc"``) and converted into the run's
+code units while the file is validated; a plain number is taken as already in
+code units.  Every model forbids unknown keys.  ``docs/problem-files.md`` is
+generated from these models (``tools/make_problem_docs.py``) and a test
+checks that it is current.
+"""
+from __future__ import annotations
+
+import re
+from fractions import Fraction
+from functools import partial
+from typing import Annotated, Any, Literal, Optional, Union
+
+from pydantic import (BaseModel, BeforeValidator, ConfigDict, Field, ValidationInfo,
+                      field_validator, model_validator)
+
+from ..core.reconstruct import LIMITERS, METHODS
+from ..core.riemann import SOLVERS
+from ..errors import ParameterError
+
+
+def _to_code(kind: str, value: Any, info: ValidationInfo) -> float:
+    units = (info.context or {}).get("units")
+    if units is None:
+        raise ValueError("internal: no unit system in the validation context")
+    try:
+        return units.code_value(value, kind, "")
+    except ParameterError as exc:
+        raise ValueError(str(exc).lstrip(": ")) from None
+
+
+def Q(kind: str, doc: str):
+    """A quantity of the given kind, stored in code units after validation."""
+    return Annotated[float, BeforeValidator(partial(_to_code, kind)),
+                     Field(description=f"{doc} [{kind.replace('_', ' ')}]",
+                           json_schema_extra={"kind": kind})]
+
+
+def _wallclock_seconds(value: Any) -> float:
+    # wall-clock durations: "HH:MM:SS", or a time quantity ("30 min")
+    if isinstance(value, (int, float)) and not isinstance(value, bool):
+        return float(value)
+    text = str(value).strip()
+    m = re.fullmatch(r"(\d+):([0-5]?\d):([0-5]?\d)", text)
+    if m:
+        h, mi, s = (int(g) for g in m.groups())
+        return float(h * 3600 + mi * 60 + s)
+    import astropy.units as u
+    try:
+        q = u.Quantity(text)
+        return float(q.to(u.s).value)
+    except Exception:
+        raise ValueError(f"{value!r} is not a wall-clock duration (use HH:MM:SS or e.g. "
+                         "'30 min')") from None
+
+
+WallClock = Annotated[float, BeforeValidator(_wallclock_seconds),
+                      Field(description="wall-clock duration, HH:MM:SS or e.g. '30 min' "
+                                        "[seconds of real time]")]
+
+
+class Strict(BaseModel):
+    model_config = ConfigDict(extra="forbid", populate_by_name=True)
+
+
+class UnitsSpec(Strict):
+    """Code units: every quantity in the file is converted to these."""
+    length: str = Field("kpc", description="code unit of length (astropy unit name)")
+    time: str = Field("Myr", description="code unit of time (astropy unit name)")
+    mass: str = Field("Msun", description="code unit of mass (astropy unit name)")
+
+
+class AxisSpec(Strict):
+    """One grid axis."""
+    lo: Q("length", "lower edge") = Field(alias="from")
+    hi: Q("length", "upper edge") = Field(alias="to")
+    cells: int = Field(gt=0, description="number of cells")
+    stretch: float = Field(1.0, gt=0.0, description="ratio between neighbouring cell "
+                                                    "widths (1 = uniform)")
+
+
+class GridSpec(Strict):
+    """The mesh: geometry and the two axes (R and z, or x and y)."""
+    geometry: Literal["cylindrical", "cartesian"] = Field(description="axisymmetric (R, z) "
+                                                                      "or planar (x, y)")
+    R: Optional[AxisSpec] = Field(None, description="radial axis (cylindrical)")
+    z: Optional[AxisSpec] = Field(None, description="vertical axis (cylindrical)")
+    x: Optional[AxisSpec] = Field(None, description="first axis (cartesian)")
+    y: Optional[AxisSpec] = Field(None, description="second axis (cartesian)")
+
+    @model_validator(mode="after")
+    def _axes(self):
+        need, other = (("R", "z"), ("x", "y")) if self.geometry == "cylindrical" \
+            else (("x", "y"), ("R", "z"))
+        for a in need:
+            if getattr(self, a) is None:
+                raise ValueError(f"a {self.geometry} grid needs the axis '{a}' "
+                                 f"(axes: {', '.join(need)})")
+        for a in other:
+            if getattr(self, a) is not None:
+                raise ValueError(f"axis '{a}' is not part of a {self.geometry} grid "
+                                 f"(axes: {', '.join(need)})")
+        return self
+
+    @property
+    def axes(self) -> tuple[AxisSpec, AxisSpec]:
+        return (self.R, self.z) if self.geometry == "cylindrical" else (self.x, self.y)
+
+
+class FloorsSpec(Strict):
+    """Positivity floors."""
+    density: Q("density", "density floor (mass or number density)") = 0.0
+    pressure: Q("pressure", "pressure floor") = 0.0
+
+
+def _gamma(value: Any) -> float:
+    if isinstance(value, str):
+        try:
+            return float(Fraction(value.strip()))
+        except (ValueError, ZeroDivisionError):
+            raise ValueError(f"{value!r} is not a number or a fraction like '5/3'") from None
+    return value
+
+
+class GasSpec(Strict):
+    """Equation of state and gas properties."""
+    eos: Literal["ideal", "isothermal"] = Field("ideal", description="equation of state")
+    gamma: Annotated[float, BeforeValidator(_gamma)] = Field(
+        5.0 / 3.0, gt=1.0, description="adiabatic index of the ideal gas (number or '5/3')")
+    sound_speed: Optional[Q("velocity", "sound speed of the isothermal gas")] = None
+    mean_molecular_weight: float = Field(0.6, gt=0.0, description="mu, for temperatures "
+                                         "and number densities")
+    magnetised: bool = Field(False, description="evolve the magnetic field (MHD)")
+    scalars: list[str] = Field(default_factory=list, description="names of passive scalars")
+    floors: FloorsSpec = Field(default_factory=FloorsSpec)
+
+    @model_validator(mode="after")
+    def _iso(self):
+        if self.eos == "isothermal" and self.sound_speed is None:
+            raise ValueError("eos 'isothermal' needs 'sound_speed'")
+        if self.eos == "ideal" and self.sound_speed is not None:
+            raise ValueError("'sound_speed' is only for eos 'isothermal'")
+        return self
+
+
+class SchemeSpec(Strict):
+    """Numerical scheme."""
+    riemann: Literal[tuple(["auto"] + list(SOLVERS))] = Field(
+        "auto", description="Riemann solver; auto = hllc without field, hlld with field "
+                            "(hlle for isothermal MHD)")
+    reconstruction: Literal[tuple(METHODS)] = Field("plm", description="reconstruction")
+    limiter: Literal[tuple(LIMITERS)] = Field("mc", description="slope limiter")
+    courant: float = Field(0.4, gt=0.0, le=1.0, description="CFL number")
+
+
+class SetupSpec(BaseModel):
+    """Initial condition: ``kind`` names a registered setup; the other keys are its
+    parameters (see the setups section)."""
+    model_config = ConfigDict(extra="allow")
+    kind: str = Field(description="registered setup name")
+
+
+class StopSpec(Strict):
+    """When the run ends."""
+    time: Q("time", "simulated time at which the run ends")
+    max_steps: Optional[int] = Field(None, gt=0, description="step limit")
+    walltime: Optional[WallClock] = Field(None, description="wall-clock limit of the job; "
+                                          "the run checkpoints and exits before it")
+    walltime_margin: WallClock = Field(300.0, description="safety margin before the "
+                                       "wall-clock limit")
+
+
+class SnapshotsSpec(Strict):
+    every: Optional[Q("time", "simulated time between snapshots")] = Field(None, gt=0.0)
+
+
+class CheckpointsSpec(Strict):
+    every: Optional[Q("time", "simulated time between checkpoints")] = Field(None, gt=0.0)
+    every_wallclock: Optional[WallClock] = Field(None, description="wall-clock time between "
+                                                 "checkpoints")
+    keep: int = Field(3, ge=1, description="how many checkpoints to keep")
+
+
+class HistorySpec(Strict):
+    every: Optional[Q("time", "simulated time between history rows")] = Field(None, gt=0.0)
+
+
+class LogSpec(Strict):
+    every_steps: int = Field(100, ge=1, description="steps between log lines")
+
+
+class OutputsSpec(Strict):
+    """What the run writes and how often."""
+    snapshots: SnapshotsSpec = Field(default_factory=SnapshotsSpec)
+    checkpoints: CheckpointsSpec = Field(default_factory=CheckpointsSpec)
+    history: HistorySpec = Field(default_factory=HistorySpec)
+    log: LogSpec = Field(default_factory=LogSpec)
+
+
+EdgeValue = Union[str, dict]
+
+
+class Problem(Strict):
+    """A complete problem file."""
+    title: str = Field(description="one line naming the run")
+    description: str = Field("", description="free text")
+    units: UnitsSpec = Field(default_factory=UnitsSpec)
+    grid: GridSpec
+    edges: dict[str, EdgeValue] = Field(description="boundary kind per edge: R_low, R_high, "
+                                        "z_low, z_high (or x_/y_); axis, reflecting, outflow, "
+                                        "periodic, or {kind: fixed, state: {...}}")
+    gas: GasSpec = Field(default_factory=GasSpec)
+    scheme: SchemeSpec = Field(default_factory=SchemeSpec)
+    setup: SetupSpec
+    stop: StopSpec
+    outputs: OutputsSpec = Field(default_factory=OutputsSpec)
+
+    @field_validator("title")
+    @classmethod
+    def _title(cls, v: str) -> str:
+        if not v.strip():
+            raise ValueError("must not be empty")
+        return v

@@ -1,0 +1,1 @@
+"""Pictures: slice plots (and, later, movies)."""
