@@ -46,6 +46,9 @@ def parser() -> argparse.ArgumentParser:
                        epilog=EPILOG)
     s.add_argument("run_dir", type=Path)
     s.add_argument("--walltime", type=_walltime, help="wall-clock limit HH:MM:SS")
+    s.add_argument("--set", dest="overrides", action="append", default=[],
+                   metavar="KEY.PATH=VALUE", help="change stop.* or outputs.* keys, e.g. "
+                   "--set stop.time='200 Myr' to extend a finished run")
     s.add_argument("--quiet", action="store_true")
 
     c = sub.add_parser("check", help="validate a problem file and show what it would run")
@@ -138,7 +141,7 @@ def main(argv=None) -> int:
             return start(args.problem, args.out, args.overrides, args.walltime, args.quiet)
         if args.command == "resume":
             from .run import resume
-            return resume(args.run_dir, args.walltime, args.quiet)
+            return resume(args.run_dir, args.walltime, args.quiet, args.overrides)
         if args.command == "check":
             return cmd_check(args)
         if args.command == "info":
@@ -150,6 +153,10 @@ def main(argv=None) -> int:
         return 2
     except FileNotFoundError as exc:
         print(f"wind2d {args.command}: {exc.filename}: no such file", file=sys.stderr)
+        return 2
+    except MemoryError:
+        print(f"wind2d {args.command}: not enough memory for this problem on this machine; "
+              "use fewer cells (grid.*.cells)", file=sys.stderr)
         return 2
     return 1
 

@@ -113,8 +113,8 @@ class Driver:
         self.log(f"snapshot {path.name} at t = {self._t(self.sim.t)}")
 
     def write_checkpoint(self, reason: str) -> Path:
-        from .io import prune, write_checkpoint
-        path = self.dir / CKPTDIR / f"checkpoint_{self.sim.nstep:09d}.h5"
+        from .io import checkpoint_name, prune, write_checkpoint
+        path = self.dir / CKPTDIR / checkpoint_name(self.sim.nstep)
         extra = {"book": self.book, "problem": self.res.text, "reason": reason}
         write_checkpoint(path, self.sim, extra)
         prune(self.dir / CKPTDIR, self.p.outputs.checkpoints.keep)
@@ -303,13 +303,29 @@ def start(problem_file, out: Path | None, overrides, walltime=None, quiet=False)
     return Driver(res, sim, run_dir, walltime, quiet).run(fresh=True)
 
 
-def resume(run_dir, walltime=None, quiet=False) -> int:
+RESUME_KEYS = ("stop.", "outputs.")
+
+
+def resume(run_dir, walltime=None, quiet=False, overrides=()) -> int:
+    """Continue a run from its newest valid checkpoint.
+
+    ``overrides`` may change only ``stop.*`` and ``outputs.*`` (e.g. extend
+    the run); the resolved problem file of the run directory is updated.
+    """
     from .io import CheckpointError, find_latest_valid, restore
     run_dir = Path(run_dir)
     rfile = run_dir / RESOLVED
     if not rfile.is_file():
         raise ProblemError(str(run_dir), [f"not a run directory: no {RESOLVED}"])
-    res = load(rfile)
+    bad = [o for o in overrides if not o.strip().startswith(RESUME_KEYS)]
+    if bad:
+        raise ProblemError(str(run_dir), [f"--set {o!r}: a resumed run may only change "
+                                          "stop.* and outputs.* keys" for o in bad])
+    res = load(rfile, list(overrides))
+    if overrides:
+        tmp = rfile.with_suffix(".yaml.tmp")
+        tmp.write_text(res.text)
+        os.replace(tmp, rfile)
     sim = build_simulation(res)
     try:
         path, data, skipped = find_latest_valid(run_dir / CKPTDIR)

@@ -78,8 +78,8 @@ class Boundaries:
         mhd = self.mhd
         # variables that change sign in mirrored ghost cells
         self.flips = {
-            "x1": np.array([IV1, IB2, IB3] if mhd else [IV1], dtype=np.int64),
-            "x2": np.array([IV2, IB1, IB3] if mhd else [IV2], dtype=np.int64),
+            "x1": np.array([IV1, IB1] if mhd else [IV1], dtype=np.int64),
+            "x2": np.array([IV2, IB2] if mhd else [IV2], dtype=np.int64),
             "axis": np.array([IV1, IV3, IB1, IB3] if mhd else [IV1, IV3], dtype=np.int64),
         }
         self.periodic1 = self.edges["x1_lo"][0] == "periodic"
@@ -94,7 +94,7 @@ class Boundaries:
             if side == 0:
                 periodic(W, bn, bt, ng, lo, hi, mhd)
         elif kind == "reflecting":
-            mirror(W, bn, bt, side, ng, lo, hi, self.flips[f"x{axis}"], False, True, False, mhd)
+            mirror(W, bn, bt, side, ng, lo, hi, self.flips[f"x{axis}"], True, False, False, mhd)
         elif kind == "axis":
             mirror(W, bn, bt, side, ng, lo, hi, self.flips["axis"], True, False, True, mhd)
         elif kind == "outflow":

@@ -1,10 +1,10 @@
 """Reflecting (slip) wall: ghost cells are the mirror image of the interior.
 
-The normal velocity is odd.  The field is mirrored as the axial vector it is
-(true mirror symmetry of ideal MHD): normal component even, tangential
-components odd.  Field lines may thread the wall, the magnetic stress
-``B_n B_t`` vanishes on it, and the mass, energy and tangential-momentum
-fluxes through the wall vanish by symmetry.
+The normal components of velocity and field are odd, the tangential ones
+even (common practice for a slip wall): the field lies along the wall, no
+current sheet forms on it, and the mass, energy and tangential-momentum
+fluxes through the wall vanish by symmetry.  A field that threads the wall
+is not a mirror-symmetric state; give such problems an outflow or fixed edge.
 
 Kernels see the side as "axis 1": ``W[var, t, n]``, normal faces ``bn[t, n]``,
 tangential faces ``bt[t, n]``; the caller passes transposed views for axis 2.

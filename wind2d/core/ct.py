@@ -36,8 +36,13 @@ def _pick(fm, a, b):
 
 
 @njit(cache=True, error_model="numpy")
-def corner_emf(W, F1, F2, E3, Ec, js, je, is_, ie, axis_lo):
-    """Fill corner fields ``E3[j, i]`` for ``js <= j <= je``, ``is_ <= i <= ie``."""
+def corner_emf(W, F1, F2, E3, Ec, js, je, is_, ie, zero_edges):
+    """Fill corner fields ``E3[j, i]`` for ``js <= j <= je``, ``is_ <= i <= ie``.
+
+    ``zero_edges[k]`` (x1 low, x1 high, x2 low, x2 high) sets E3 = 0 on that edge:
+    on the axis and on reflecting walls E3 is odd under the mirror, so it vanishes
+    there exactly (the upwind choice would otherwise follow round-off in the mass flux).
+    """
     for j in range(u(js) - ONE, u(je) + ONE):
         for i in range(u(is_) - ONE, u(ie) + ONE):
             Ec[j, i] = W[IV1, j, i] * W[IB2, j, i] - W[IV2, j, i] * W[IB1, j, i]
@@ -52,9 +57,16 @@ def corner_emf(W, F1, F2, E3, Ec, js, je, is_, ie, axis_lo):
             dxr = _pick(F2[IDN, j, i], Ec[j - ONE, i] - e1s, Ec[j, i] - e1n)
             dxl = _pick(F2[IDN, j, i - ONE], e1s - Ec[j - ONE, i - ONE], e1n - Ec[j, i - ONE])
             E3[j, i] = 0.25 * (e1n + e1s + e2e + e2w) - 0.25 * (dyu - dyd + dxr - dxl)
-    if axis_lo:
-        for j in range(js, je + 1):
+    for j in range(js, je + 1):
+        if zero_edges[0]:
             E3[j, is_] = 0.0
+        if zero_edges[1]:
+            E3[j, ie] = 0.0
+    for i in range(is_, ie + 1):
+        if zero_edges[2]:
+            E3[js, i] = 0.0
+        if zero_edges[3]:
+            E3[je, i] = 0.0
 
 
 @njit(cache=True, error_model="numpy")

@@ -49,6 +49,8 @@ class Integrator:
         self.r1 = (m.js - e, m.je + e, m.is_, m.ie + 1)
         self.r2 = (m.js, m.je + 1, m.is_ - e, m.ie + e)
         self.gas = (eos.gamma, eos.isothermal, eos.cs2)
+        self.zero_emf = np.array([boundaries.edges[e][0] in ("axis", "reflecting")
+                                  for e in ("x1_lo", "x1_hi", "x2_lo", "x2_hi")])
 
     def _mirrored_centres(self, xf, xc, axis):
         # Ghost centres behind a wall are the mirror images of the interior ones, so
@@ -86,7 +88,7 @@ class Integrator:
     def _faces(self, st: State, out: State, dt: float) -> None:
         m = self.mesh
         ct.corner_emf(self.W, self.F1, self.F2, self.E3, self.Ec, m.js, m.je, m.is_, m.ie,
-                      m.has_axis)
+                      self.zero_emf)
         ct.update_faces(st.b1, st.b2, out.b1, out.b2, self.E3, dt, m.area1, m.vol1, m.dx2,
                         m.js, m.je, m.is_, m.ie)
 

@@ -2,8 +2,30 @@
 from __future__ import annotations
 
 from ..core.eos import IdealGas, Isothermal
-from ..errors import ParameterError
+from ..errors import NonFiniteStateError, ParameterError
 from .load import ProblemError, Resolved
+
+# the core names its parameters as the Python API does; the file has other key paths
+_FILE_NAMES = (("boundaries", "edges"), ("riemann = ", "scheme.riemann = "),
+               ("courant = ", "scheme.courant = "), ("limiter = ", "scheme.limiter = "),
+               ("reconstruction = ", "scheme.reconstruction = "), ("gamma = ", "gas.gamma = "),
+               ("sound_speed = ", "gas.sound_speed = "),
+               ("density_floor = ", "gas.floors.density = "),
+               ("pressure_floor = ", "gas.floors.pressure = "), ("state: ", "setup: state: "),
+               ("set_primitive: ", "setup: "), ("set_field: ", "setup: "))
+
+
+def _file_message(msg: str, axis_names) -> str:
+    """A core message with the key path of the problem file."""
+    if msg.startswith(("grid", "edges", "gas", "scheme", "setup", "stop", "outputs", "units")):
+        return msg
+    for core, key in _FILE_NAMES:
+        if msg.startswith(core):
+            return key + msg[len(core):]
+    for a in axis_names:
+        if msg.startswith((f"{a}:", f"{a}.")):
+            return "grid." + msg
+    return msg
 
 
 def _solver(gas, scheme) -> str:
@@ -33,6 +55,11 @@ def build_simulation(res: Resolved):
         from ..state import VariableMap
         vm = VariableMap(g.geometry, p.gas.magnetised, tuple(p.gas.scalars))
         ctx = SetupContext(res.units, g.geometry, vm.primitive_names, names)
+        if g.geometry == "cylindrical":
+            for k in ("R_low", "R_high"):
+                if p.edges.get(k) == "periodic":
+                    raise ParameterError(f"edges.{k} = 'periodic': the R axis cannot be "
+                                         "periodic in cylindrical geometry")
         edges = {}
         for k, v in p.edges.items():
             if isinstance(v, dict):
@@ -51,10 +78,11 @@ def build_simulation(res: Resolved):
                          courant=p.scheme.courant, density_floor=p.gas.floors.density,
                          pressure_floor=p.gas.floors.pressure, scalars=tuple(p.gas.scalars))
         get(p.setup.kind)().apply(sim, res.setup_params, ctx)
+        try:
+            sim.integrator.max_dt()          # finite, positive density and pressure
+        except NonFiniteStateError as exc:
+            raise ParameterError(f"setup: the initial state of setup.kind = "
+                                 f"{p.setup.kind!r} is not usable: {exc}") from None
     except ParameterError as exc:
-        msg = str(exc)
-        if not msg.startswith(("grid", "edges", "gas", "scheme", "setup", "stop", "outputs",
-                               "boundaries", "units")):
-            msg = f"{msg}"
-        raise ProblemError(res.source, [msg]) from None
+        raise ProblemError(res.source, [_file_message(str(exc), names)]) from None
     return sim

@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import copy
 import difflib
+import re
 import typing
 from dataclasses import dataclass
 from pathlib import Path
@@ -22,6 +23,44 @@ from .schema import Problem
 from .units import UnitSystem
 
 MAX_EXTENDS = 8
+
+
+class _Loader(yaml.SafeLoader):
+    """Safe YAML loader that rejects duplicate keys and reads ``1e-3`` as a number.
+
+    PyYAML follows YAML 1.1, where a float needs a dot (``1.0e-3``); ``1e-3``
+    would otherwise arrive as the text '1e-3'.
+    """
+
+
+def _no_duplicates(loader, node, deep=False):
+    seen: dict = {}
+    for knode, _ in node.value:
+        if knode.tag == "tag:yaml.org,2002:merge":
+            continue
+        key = loader.construct_object(knode, deep=True)
+        try:
+            first = seen.get(key)
+        except TypeError:
+            continue            # unhashable key: construct_mapping reports it
+        if first is not None:
+            raise yaml.constructor.ConstructorError(
+                None, None, f"duplicate key {key!r} (first given on line {first + 1})",
+                knode.start_mark)
+        seen[key] = knode.start_mark.line
+    return loader.construct_mapping(node, deep)
+
+
+_Loader.add_constructor(yaml.resolver.BaseResolver.DEFAULT_MAPPING_TAG, _no_duplicates)
+_Loader.add_implicit_resolver(
+    "tag:yaml.org,2002:float",
+    re.compile(r"^[-+]?(?:[0-9][0-9_]*)(?:\.[0-9_]*)?[eE][-+]?[0-9]+$"),
+    list("-+0123456789"))
+
+
+def yaml_load(text: str):
+    """Parse YAML text as problem files are parsed (see :class:`_Loader`)."""
+    return yaml.load(text, Loader=_Loader)
 
 
 class ProblemError(ValueError):
@@ -43,7 +82,7 @@ def _read_yaml(path: Path) -> dict:
     except UnicodeDecodeError:
         raise ProblemError(str(path), ["the file is not UTF-8 text (binary file?)"]) from None
     try:
-        data = yaml.safe_load(text)
+        data = yaml_load(text)
     except yaml.YAMLError as exc:
         mark = getattr(exc, "problem_mark", None)
         where = f"line {mark.line + 1}, column {mark.column + 1}: " if mark else ""
@@ -72,8 +111,13 @@ def merge(base: dict, over: dict) -> dict:
 def read_with_bases(path: Path, depth: int = 0, seen: tuple = ()) -> dict:
     """Read a file and the chain of files it ``extends`` (paths relative to it)."""
     path = Path(path)
-    if depth > MAX_EXTENDS or path.resolve() in seen:
-        raise ProblemError(str(path), ["'extends' forms a cycle or is nested too deep"])
+    if path.resolve() in seen:
+        chain = " -> ".join(p.name for p in seen + (path.resolve(),))
+        raise ProblemError(str(path), [f"extends: the files extend each other in a cycle "
+                                       f"({chain})"])
+    if depth > MAX_EXTENDS:
+        raise ProblemError(str(path), [f"extends: more than {MAX_EXTENDS} levels of base "
+                                       "files"])
     data = _read_yaml(path)
     base = data.pop("extends", None)
     if base is None:
@@ -98,7 +142,7 @@ def apply_overrides(data: dict, overrides: list[str], source: str) -> dict:
         if not all(parts):
             raise ProblemError(source, [f"--set {item!r}: empty key in {key!r}"])
         try:
-            value = yaml.safe_load(text) if text.strip() else ""
+            value = yaml_load(text) if text.strip() else ""
         except yaml.YAMLError:
             raise ProblemError(source, [f"--set {item!r}: cannot parse the value"]) from None
         node = data
@@ -141,9 +185,18 @@ def _keys_of(model: type[BaseModel]) -> list[str]:
 def describe_errors(exc: ValidationError, root: type[BaseModel], prefix: str = "") -> list[str]:
     """Readable messages from a pydantic error: key path, what is wrong, what is allowed."""
     out = []
+    union_paths = set()
     for e in exc.errors():
-        loc = tuple(e["loc"])
+        # drop the names pydantic gives to the members of a union ('str', 'dict[...]');
+        # a union reports every member, one message per key path is enough
+        loc = tuple(p for p in e["loc"] if not (isinstance(p, str) and
+                                                 (p in ("str", "int", "float", "bool")
+                                                  or "[" in p)))
         path = prefix + ".".join(str(p) for p in loc) if loc else (prefix.rstrip(".") or "(top)")
+        if len(loc) != len(e["loc"]):
+            if path in union_paths:
+                continue
+            union_paths.add(path)
         kind = e["type"]
         if kind == "extra_forbidden":
             parent = _model_at(root, loc[:-1])
@@ -153,14 +206,37 @@ def describe_errors(exc: ValidationError, root: type[BaseModel], prefix: str = "
             out.append(f"{path}: unknown key{hint}; allowed keys here: {', '.join(allowed)}")
         elif kind == "missing":
             out.append(f"{path}: required key is missing")
+        elif kind in ("model_type", "model_attributes_type", "dict_type"):
+            sub = _model_at(root, loc)
+            keys = f" (keys: {', '.join(_keys_of(sub))})" if sub else ""
+            got = e.get("input")
+            out.append(f"{path}: must be a section, a mapping of keys{keys}; got "
+                       f"{_shown(got)}")
+        elif kind == "literal_error":
+            allowed = re.findall(r"'([^']*)'", str((e.get("ctx") or {}).get("expected", "")))
+            got = e.get("input")
+            near = difflib.get_close_matches(str(got), allowed, n=1) if allowed else []
+            hint = f" (did you mean '{near[0]}'?)" if near else ""
+            out.append(f"{path} = {_shown(got)}: not an allowed value{hint}; allowed values: "
+                       + ", ".join(allowed))
         else:
             msg = e["msg"]
             if msg.startswith("Value error, "):
                 msg = msg[len("Value error, "):]
             got = e.get("input")
             shown = "" if isinstance(got, (dict, list)) or got is None else f" (got {got!r})"
-            out.append(f"{path}: {msg}{shown}")
+            if shown and (msg.startswith(repr(got)) or (isinstance(got, str) and
+                                                         repr(got) in msg)):
+                shown = ""
+            # a check on a whole section may name the key inside it itself
+            inner = msg.startswith(path + ".") or msg.startswith(path + " ")
+            out.append(f"{msg}{shown}" if inner else f"{path}: {msg}{shown}")
     return out
+
+
+def _shown(value) -> str:
+    text = repr(value)
+    return text if len(text) <= 60 else text[:57] + "..."
 
 
 @dataclass

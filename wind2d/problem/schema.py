@@ -8,14 +8,16 @@ checks that it is current.
 """
 from __future__ import annotations
 
+import math
 import re
 from fractions import Fraction
 from functools import partial
-from typing import Annotated, Any, Literal, Optional, Union
+from typing import Annotated, Any, Literal, Optional
 
 from pydantic import (BaseModel, BeforeValidator, ConfigDict, Field, ValidationInfo,
                       field_validator, model_validator)
 
+from ..boundaries import KINDS as EDGE_KINDS
 from ..core.reconstruct import LIMITERS, METHODS
 from ..core.riemann import SOLVERS
 from ..errors import ParameterError
@@ -40,20 +42,25 @@ def Q(kind: str, doc: str):
 
 def _wallclock_seconds(value: Any) -> float:
     # wall-clock durations: "HH:MM:SS", or a time quantity ("30 min")
+    bad = ValueError(f"{value!r} is not a wall-clock duration (use HH:MM:SS or e.g. "
+                     "'30 min')")
     if isinstance(value, (int, float)) and not isinstance(value, bool):
-        return float(value)
-    text = str(value).strip()
-    m = re.fullmatch(r"(\d+):([0-5]?\d):([0-5]?\d)", text)
-    if m:
-        h, mi, s = (int(g) for g in m.groups())
-        return float(h * 3600 + mi * 60 + s)
-    import astropy.units as u
-    try:
-        q = u.Quantity(text)
-        return float(q.to(u.s).value)
-    except Exception:
-        raise ValueError(f"{value!r} is not a wall-clock duration (use HH:MM:SS or e.g. "
-                         "'30 min')") from None
+        seconds = float(value)
+    else:
+        text = str(value).strip()
+        m = re.fullmatch(r"(\d+):([0-5]?\d):([0-5]?\d)", text)
+        if m:
+            h, mi, s = (int(g) for g in m.groups())
+            seconds = float(h * 3600 + mi * 60 + s)
+        else:
+            import astropy.units as u
+            try:
+                seconds = float(u.Quantity(text).to(u.s).value)
+            except Exception:
+                raise bad from None
+    if not (math.isfinite(seconds) and seconds >= 0):
+        raise bad
+    return seconds
 
 
 WallClock = Annotated[float, BeforeValidator(_wallclock_seconds),
@@ -72,13 +79,37 @@ class UnitsSpec(Strict):
     mass: str = Field("Msun", description="code unit of mass (astropy unit name)")
 
 
+MAX_CELLS_AXIS = 2 ** 20         # cells along one axis
+MAX_CELLS = 2 ** 28              # cells of the whole grid (about 64 GiB of arrays)
+MIN_CELL_FRACTION = 1e-12        # narrowest stretched cell / axis length (float64 room)
+
+
 class AxisSpec(Strict):
     """One grid axis."""
     lo: Q("length", "lower edge") = Field(alias="from")
     hi: Q("length", "upper edge") = Field(alias="to")
-    cells: int = Field(gt=0, description="number of cells")
+    cells: int = Field(gt=0, le=MAX_CELLS_AXIS, description="number of cells")
     stretch: float = Field(1.0, gt=0.0, description="ratio between neighbouring cell "
                                                     "widths (1 = uniform)")
+
+    @model_validator(mode="after")
+    def _range(self):
+        if not (math.isfinite(self.lo) and math.isfinite(self.hi)):
+            raise ValueError("'from' and 'to' must be finite")
+        if not self.lo < self.hi:
+            raise ValueError(f"'from' ({self.lo:g}) must be smaller than 'to' ({self.hi:g}), "
+                             "both in code units")
+        if not math.isfinite(self.stretch):
+            raise ValueError("'stretch' must be a finite number")
+        if self.stretch != 1.0 and self.cells > 1:
+            # narrowest cell as a fraction of the axis, from logs (no overflow)
+            r, n = max(self.stretch, 1.0 / self.stretch), self.cells
+            log_frac = math.log(r - 1.0) - (n * math.log(r) + math.log1p(-r ** -n))
+            if log_frac < math.log(MIN_CELL_FRACTION):
+                raise ValueError(f"stretch = {self.stretch:g} over {n} cells makes the "
+                                 f"narrowest cell smaller than {MIN_CELL_FRACTION:g} of the "
+                                 "axis; use a stretch closer to 1 or fewer cells")
+        return self
 
 
 class GridSpec(Strict):
@@ -102,6 +133,13 @@ class GridSpec(Strict):
             if getattr(self, a) is not None:
                 raise ValueError(f"axis '{a}' is not part of a {self.geometry} grid "
                                  f"(axes: {', '.join(need)})")
+        if self.geometry == "cylindrical" and self.R.lo < 0:
+            raise ValueError(f"grid.R.from = {self.R.lo:g}: the radius starts at 0 or above "
+                             "in cylindrical geometry")
+        a1, a2 = self.axes
+        if a1.cells * a2.cells > MAX_CELLS:
+            raise ValueError(f"{a1.cells} x {a2.cells} cells is more than the "
+                             f"{MAX_CELLS} cells wind2d allows on one grid")
         return self
 
     @property
@@ -111,8 +149,8 @@ class GridSpec(Strict):
 
 class FloorsSpec(Strict):
     """Positivity floors."""
-    density: Q("density", "density floor (mass or number density)") = 0.0
-    pressure: Q("pressure", "pressure floor") = 0.0
+    density: Q("density", "density floor (mass or number density)") = Field(0.0, ge=0.0)
+    pressure: Q("pressure", "pressure floor") = Field(0.0, ge=0.0)
 
 
 def _gamma(value: Any) -> float:
@@ -124,17 +162,37 @@ def _gamma(value: Any) -> float:
     return value
 
 
+# names of state variables (both geometries, with field) and T: not scalar names
+RESERVED_NAMES = frozenset(["rho", "p", "T", "vR", "vz", "vphi", "vx", "vy", "BR", "Bz",
+                            "Bphi", "Bx", "By"])
+
+
 class GasSpec(Strict):
     """Equation of state and gas properties."""
     eos: Literal["ideal", "isothermal"] = Field("ideal", description="equation of state")
     gamma: Annotated[float, BeforeValidator(_gamma)] = Field(
         5.0 / 3.0, gt=1.0, description="adiabatic index of the ideal gas (number or '5/3')")
-    sound_speed: Optional[Q("velocity", "sound speed of the isothermal gas")] = None
+    sound_speed: Optional[Q("velocity", "sound speed of the isothermal gas")] = Field(
+        None, gt=0.0)
     mean_molecular_weight: float = Field(0.6, gt=0.0, description="mu, for temperatures "
                                          "and number densities")
     magnetised: bool = Field(False, description="evolve the magnetic field (MHD)")
     scalars: list[str] = Field(default_factory=list, description="names of passive scalars")
     floors: FloorsSpec = Field(default_factory=FloorsSpec)
+
+    @field_validator("scalars")
+    @classmethod
+    def _scalar_names(cls, v: list[str]) -> list[str]:
+        for name in v:
+            if not name.isidentifier():
+                raise ValueError(f"scalar name {name!r}: use letters, digits and '_'")
+            if name in RESERVED_NAMES:
+                raise ValueError(f"scalar name {name!r} is the name of a state variable; "
+                                 f"not allowed: {', '.join(sorted(RESERVED_NAMES))}")
+        dup = sorted({n for n in v if v.count(n) > 1})
+        if dup:
+            raise ValueError(f"scalar name(s) given twice: {', '.join(dup)}")
+        return v
 
     @model_validator(mode="after")
     def _iso(self):
@@ -164,10 +222,10 @@ class SetupSpec(BaseModel):
 
 class StopSpec(Strict):
     """When the run ends."""
-    time: Q("time", "simulated time at which the run ends")
+    time: Q("time", "simulated time at which the run ends") = Field(gt=0.0)
     max_steps: Optional[int] = Field(None, gt=0, description="step limit")
-    walltime: Optional[WallClock] = Field(None, description="wall-clock limit of the job; "
-                                          "the run checkpoints and exits before it")
+    walltime: Optional[WallClock] = Field(None, gt=0.0, description="wall-clock limit of "
+                                          "the job; the run checkpoints and exits before it")
     walltime_margin: WallClock = Field(300.0, description="safety margin before the "
                                        "wall-clock limit")
 
@@ -199,7 +257,7 @@ class OutputsSpec(Strict):
     log: LogSpec = Field(default_factory=LogSpec)
 
 
-EdgeValue = Union[str, dict]
+EdgeValue = Any
 
 
 class Problem(Strict):
@@ -216,6 +274,15 @@ class Problem(Strict):
     setup: SetupSpec
     stop: StopSpec
     outputs: OutputsSpec = Field(default_factory=OutputsSpec)
+
+    @field_validator("edges")
+    @classmethod
+    def _edges(cls, v: dict) -> dict:
+        for name, val in v.items():
+            if not isinstance(val, (str, dict)):
+                raise ValueError(f"edges.{name} = {val!r}: give a boundary kind "
+                                 f"({', '.join(EDGE_KINDS)}) or {{kind: fixed, state: ...}}")
+        return v
 
     @field_validator("title")
     @classmethod

@@ -83,6 +83,10 @@ class UnitSystem:
             if not unit.is_equivalent(want):
                 raise ParameterError(f"units.{name} = {getattr(self, name)!r}: must be a "
                                      f"{want.physical_type} unit")
+            scale = unit.to(want)
+            if not (math.isfinite(scale) and scale > 0):
+                raise ParameterError(f"units.{name} = {getattr(self, name)!r}: must be a "
+                                     f"positive, finite {want.physical_type} unit")
 
     # ------------------------------------------------------------ factors
     @property
@@ -115,15 +119,25 @@ class UnitSystem:
         """A number in code units from a quantity string of the given kind.
 
         Plain numbers are taken as already in code units (for dimensionless
-        verification problems).  Densities accept number densities, pressures
-        accept temperatures only through :meth:`pressure_from`.
+        verification problems).  Densities accept number densities; a
+        temperature is its own kind (a state's ``T`` becomes ``p`` in
+        :meth:`wind2d.setups.SetupContext.state`).  Non-finite values are refused.
         """
+        out = self._code_value(value, kind, where)
+        if not math.isfinite(out):
+            raise ParameterError(f"{where}: {value!r} is not a finite value")
+        return out
+
+    def _code_value(self, value, kind: str, where: str) -> float:
         if kind not in KINDS:
             raise KeyError(kind)
         if isinstance(value, bool):
             raise ParameterError(f"{where}: expected a number or a quantity, got {value!r}")
         if isinstance(value, (int, float)):
-            return float(value)
+            try:
+                return float(value)
+            except OverflowError:
+                return math.inf
         q = parse_quantity(value, where)
         if kind == "dimensionless":
             if q.unit.physical_type != "dimensionless":

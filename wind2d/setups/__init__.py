@@ -22,6 +22,19 @@ def register(name: str):
     return deco
 
 
+_COMPONENTS = ("R", "z", "phi", "x", "y")
+
+
+def state_kind(name: str) -> str:
+    """Unit kind of a state variable: rho, p, T, velocity and field components;
+    anything else (a passive scalar) is dimensionless."""
+    if name in ("rho", "p", "T"):
+        return {"rho": "density", "p": "pressure", "T": "temperature"}[name]
+    if name[:1] in ("v", "B") and name[1:] in _COMPONENTS:
+        return "velocity" if name[0] == "v" else "magnetic_field"
+    return "dimensionless"
+
+
 class SetupContext:
     """What a setup may use: the unit system and the geometry of the run."""
 
@@ -46,14 +59,12 @@ class SetupContext:
                 hint = f" (did you mean '{near[0]}'?)" if near else ""
                 raise ParameterError(f"{where}.{k}: unknown state variable{hint}; allowed: "
                                      + ", ".join(sorted(allowed)))
-            kind = ("density" if k == "rho" else "pressure" if k == "p" else
-                    "temperature" if k == "T" else "velocity" if k.startswith("v") else
-                    "magnetic_field" if k.startswith("B") else "dimensionless")
-            out[k] = self.units.code_value(v, kind, f"{where}.{k}")
+            out[k] = self.units.code_value(v, state_kind(k), f"{where}.{k}")
         if "rho" not in out:
             raise ParameterError(f"{where}: the state needs 'rho'")
-        if out["rho"] <= 0:
-            raise ParameterError(f"{where}.rho: must be positive")
+        for k in ("rho", "p", "T"):
+            if k in out and out[k] <= 0:
+                raise ParameterError(f"{where}.{k} = {values[k]!r}: must be positive")
         if "T" in out:
             if "p" in out:
                 raise ParameterError(f"{where}: give either 'p' or 'T', not both")

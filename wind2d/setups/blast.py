@@ -18,7 +18,7 @@ class Blast:
     class Params(Strict):
         energy: Any = Field(description="blast energy (cylindrical: total; cartesian: per "
                             "unit length) [energy]")
-        radius: Q("length", "radius of the deposit")
+        radius: Q("length", "radius of the deposit") = Field(gt=0.0)
         centre: list[Q("length", "coordinate")] = Field(default_factory=lambda: [0.0, 0.0],
                                                          description="centre (R, z) or (x, y)")
         ambient: dict[str, Any] = Field(description="surrounding state")

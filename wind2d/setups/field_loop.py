@@ -14,7 +14,7 @@ from . import register
 class FieldLoop:
     class Params(Strict):
         amplitude: Q("magnetic_field", "A0, field strength inside the loop")
-        radius: Q("length", "R0, loop radius")
+        radius: Q("length", "R0, loop radius") = Field(gt=0.0)
         centre: list[Q("length", "coordinate")] = Field(default_factory=lambda: [0.0, 0.0])
         state: dict[str, Any] = Field(description="uniform gas state and velocity")
 
@@ -23,6 +23,10 @@ class FieldLoop:
             raise ParameterError("setup.kind = 'field_loop' needs a cartesian grid and "
                                  "gas.magnetised: true")
         st = ctx.state(q.state, "setup.state")
+        inplane = sorted(k for k in st if k in sim.field_names[5:7])
+        if inplane:
+            raise ParameterError(f"setup.state.{inplane[0]}: the in-plane field is the loop's; "
+                                 f"the state may give only {sim.field_names[7]}")
         c = q.centre
 
         def A(x, y):

@@ -52,8 +52,8 @@ class LinearWave:
         wave: Literal["fast", "alfven", "slow", "entropy", "sound"] = Field(
             description="which right-going wave (sound without field)")
         amplitude: float = Field(1e-6, gt=0.0, description="relative amplitude")
-        rho: Q("density", "background density") = 1.0
-        p: Q("pressure", "background pressure") = 0.6
+        rho: Q("density", "background density") = Field(1.0, gt=0.0)
+        p: Q("pressure", "background pressure") = Field(0.6, gt=0.0)
         B_parallel: Q("magnetic_field", "background field along k") = 1.0
         B_across: Q("magnetic_field", "background field across k in the plane") = 1.4142135623730951
         B_out: Q("magnetic_field", "background field out of the plane") = 0.5

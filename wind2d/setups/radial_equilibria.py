@@ -7,6 +7,7 @@
   d(p + B_phi^2/2)/dR = -B_phi^2/R (hoop stress).
 """
 import numpy as np
+from pydantic import Field
 
 from ..errors import ParameterError
 from ..problem.schema import Q, Strict
@@ -21,10 +22,10 @@ def _cyl(ctx, name):
 @register("rotating_equilibrium")
 class RotatingEquilibrium:
     class Params(Strict):
-        rho: Q("density", "uniform density")
-        p0: Q("pressure", "pressure far from the axis")
+        rho: Q("density", "uniform density") = Field(gt=0.0)
+        p0: Q("pressure", "pressure far from the axis") = Field(gt=0.0)
         v0: Q("velocity", "velocity scale")
-        a: Q("length", "radius scale")
+        a: Q("length", "radius scale") = Field(gt=0.0)
 
     def apply(self, sim, q, ctx):
         _cyl(ctx, "rotating_equilibrium")
@@ -38,10 +39,10 @@ class RotatingEquilibrium:
 @register("toroidal_equilibrium")
 class ToroidalEquilibrium:
     class Params(Strict):
-        rho: Q("density", "uniform density")
-        p0: Q("pressure", "pressure far from the axis")
+        rho: Q("density", "uniform density") = Field(gt=0.0)
+        p0: Q("pressure", "pressure far from the axis") = Field(gt=0.0)
         B0: Q("magnetic_field", "field scale")
-        a: Q("length", "radius scale")
+        a: Q("length", "radius scale") = Field(gt=0.0)
 
     def apply(self, sim, q, ctx):
         _cyl(ctx, "toroidal_equilibrium")

@@ -32,6 +32,11 @@ class ShockTube:
             return lambda x1, x2: np.where((x1, x2)[axis] < params.at, a, b)
 
         poloidal = names[5:7] if sim.varmap.mhd else ()
+        if poloidal and ctx.geometry == "cylindrical" and \
+                (lo.get(poloidal[0], 0.0) != 0.0 or hi.get(poloidal[0], 0.0) != 0.0):
+            raise ParameterError(f"setup: a uniform {poloidal[0]} has div B = {poloidal[0]}/R "
+                                 "!= 0 in cylindrical geometry; use Bphi (and Bz) for the "
+                                 "tangential field of a shock tube")
         if poloidal:
             normal = poloidal[axis]
             if lo.get(normal, 0.0) != hi.get(normal, 0.0):
