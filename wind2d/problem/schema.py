@@ -231,10 +231,14 @@ class StopSpec(Strict):
 
 
 class SnapshotsSpec(Strict):
+    """Snapshots: the full state at regular simulated times, for analysis."""
+
     every: Optional[Q("time", "simulated time between snapshots")] = Field(None, gt=0.0)
 
 
 class CheckpointsSpec(Strict):
+    """Checkpoints: restart files, by simulated or wall-clock time."""
+
     every: Optional[Q("time", "simulated time between checkpoints")] = Field(None, gt=0.0)
     every_wallclock: Optional[WallClock] = Field(None, description="wall-clock time between "
                                                  "checkpoints")
@@ -242,10 +246,14 @@ class CheckpointsSpec(Strict):
 
 
 class HistorySpec(Strict):
+    """History: one row of global quantities at regular simulated times."""
+
     every: Optional[Q("time", "simulated time between history rows")] = Field(None, gt=0.0)
 
 
 class LogSpec(Strict):
+    """Progress lines in the log."""
+
     every_steps: int = Field(100, ge=1, description="steps between log lines")
 
 

@@ -21,6 +21,9 @@ def _cyl(ctx, name):
 
 @register("rotating_equilibrium")
 class RotatingEquilibrium:
+    """Rotating cylinder: v_phi = v0 (R/a) exp(-R^2/2a^2) balanced by the pressure
+    p = p0 - (rho v0^2/2) exp(-R^2/a^2) (dp/dR = rho v_phi^2/R)."""
+
     class Params(Strict):
         rho: Q("density", "uniform density") = Field(gt=0.0)
         p0: Q("pressure", "pressure far from the axis") = Field(gt=0.0)
@@ -38,6 +41,9 @@ class RotatingEquilibrium:
 
 @register("toroidal_equilibrium")
 class ToroidalEquilibrium:
+    """Toroidal field B_phi = B0 (R/a) exp(-R^2/2a^2) balanced by the pressure
+    p = p0 - (B0^2/2)(R^2/a^2 - 1) exp(-R^2/a^2) (d(p + B_phi^2/2)/dR = -B_phi^2/R)."""
+
     class Params(Strict):
         rho: Q("density", "uniform density") = Field(gt=0.0)
         p0: Q("pressure", "pressure far from the axis") = Field(gt=0.0)
