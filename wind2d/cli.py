@@ -133,8 +133,10 @@ def cmd_plot(args) -> int:
 
 def main(argv=None) -> int:
     from .errors import ParameterError
+    from .parallel import abort, rank, world
     from .problem.load import ProblemError
     args = parser().parse_args(argv)
+    parallel = args.command in ("run", "resume") and world() is not None
     try:
         if args.command == "run":
             from .run import start

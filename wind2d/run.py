@@ -70,9 +70,14 @@ class Driver:
         self._log = None
         self._bar = None
         self._last_ckpt_wall = time.monotonic()
+        self.comm = sim.comm
+        self.root = self.comm is None or self.comm.rank == 0
+        self.nranks = 1 if self.comm is None else self.comm.size
 
     # ------------------------------------------------------------ plumbing
     def log(self, line: str) -> None:
+        if not self.root:
+            return
         stamp = time.strftime("%Y-%m-%d %H:%M:%S")
         self._log.write(f"{stamp}  {line}\n")
         self._log.flush()
@@ -83,6 +88,8 @@ class Driver:
                 print(line, flush=True)
 
     def _status(self, state: str, **extra) -> None:
+        if not self.root:
+            return
         data = {"state": state, "time": self.sim.t, "step": self.sim.nstep,
                 "time_unit": self.units.time, "title": self.p.title, "version": __version__,
                 **extra}
@@ -99,25 +106,32 @@ class Driver:
     # ------------------------------------------------------------ outputs
     def _provenance(self):
         from .io import provenance
-        return provenance(self.res.text, 1, self.book["started"])
+        return provenance(self.res.text, self.nranks, self.book["started"])
 
     def write_snapshot(self) -> None:
         from .io import write_series, write_snapshot
+        from .parallel.gather import GlobalView
         k = self.book["snapshot_index"]
         path = self.dir / SNAPDIR / f"snapshot_{k:05d}.h5"
-        write_snapshot(path, self.sim, self.units, self._provenance())
-        self.snapshots = sorted((self.dir / SNAPDIR).glob("snapshot_*.h5"))
-        write_series(self.dir / SNAPDIR, self.snapshots)
+        view = GlobalView(self.sim)                      # collective under MPI
+        if self.root:
+            write_snapshot(path, view, self.units, self._provenance())
+            self.snapshots = sorted((self.dir / SNAPDIR).glob("snapshot_*.h5"))
+            write_series(self.dir / SNAPDIR, self.snapshots)
         self.book["snapshot_index"] = k + 1
         self.book["last_snapshot_time"] = self.sim.t
         self.log(f"snapshot {path.name} at t = {self._t(self.sim.t)}")
 
     def write_checkpoint(self, reason: str) -> Path:
         from .io import checkpoint_name, prune, write_checkpoint
+        from .parallel.gather import GlobalView
         path = self.dir / CKPTDIR / checkpoint_name(self.sim.nstep)
-        extra = {"book": self.book, "problem": self.res.text, "reason": reason}
-        write_checkpoint(path, self.sim, extra)
-        prune(self.dir / CKPTDIR, self.p.outputs.checkpoints.keep)
+        extra = {"book": self.book, "problem": self.res.text, "reason": reason,
+                 "ranks": self.nranks}
+        view = GlobalView(self.sim)                      # collective under MPI
+        if self.root:
+            write_checkpoint(path, view, extra)
+            prune(self.dir / CKPTDIR, self.p.outputs.checkpoints.keep)
         self._last_ckpt_wall = time.monotonic()
         self.log(f"checkpoint {path.name} at t = {self._t(self.sim.t)} ({reason})")
         return path
@@ -166,20 +180,26 @@ class Driver:
     def run(self, fresh: bool) -> int:
         from .io import History
         o, stop = self.p.outputs, self.p.stop
-        self.dir.mkdir(parents=True, exist_ok=True)
-        (self.dir / SNAPDIR).mkdir(exist_ok=True)
-        (self.dir / CKPTDIR).mkdir(exist_ok=True)
-        self._log = open(self.dir / LOG, "a", encoding="utf-8")
+        if self.root:
+            self.dir.mkdir(parents=True, exist_ok=True)
+            (self.dir / SNAPDIR).mkdir(exist_ok=True)
+            (self.dir / CKPTDIR).mkdir(exist_ok=True)
+            self._log = open(self.dir / LOG, "a", encoding="utf-8")
+        if self.comm is not None:
+            self.comm.Barrier()                           # folders exist for every rank
         for s in (signal.SIGTERM, signal.SIGINT, signal.SIGUSR1):
             signal.signal(s, self._on_signal)
         try:
+            columns = self.history_columns()              # collective under MPI
+            self.history = None
             if fresh:
-                (self.dir / RESOLVED).write_text(self.res.text)
-                self.history = History(self.dir / HISTORY, self.history_columns())
-                self.log(f"wind2d {__version__}: {self.p.title}")
-            else:
-                self.history = History.resume(self.dir / HISTORY, self.history_columns(),
-                                              self.sim.t)
+                if self.root:
+                    (self.dir / RESOLVED).write_text(self.res.text)
+                    self.history = History(self.dir / HISTORY, columns)
+                self.log(f"wind2d {__version__}: {self.p.title}"
+                         + (f" on {self.nranks} ranks" if self.nranks > 1 else ""))
+            elif self.root:
+                self.history = History.resume(self.dir / HISTORY, columns, self.sim.t)
             self.log(f"grid {self.sim.mesh}, {self.sim.mesh.n1 * self.sim.mesh.n2} cells; "
                      f"stop at t = {self._t(stop.time)}")
             self._status("running")
@@ -189,18 +209,20 @@ class Driver:
                 signal.signal(s, signal.SIG_DFL)
             if self._bar is not None:
                 self._bar.close()
-            self._log.close()
+            if self._log is not None:
+                self._log.close()
 
     def _outputs(self) -> None:
         o = self.p.outputs
         if self._due("next_history", o.history.every):
-            self.history.append(self.history_row())
+            row = self.history_row()                      # collective under MPI
+            if self.root:
+                self.history.append(row)
         if self._due("next_snapshot", o.snapshots.every):
             self.write_snapshot()
         if self._due("next_checkpoint", o.checkpoints.every):
             self.write_checkpoint("cadence")
-        if o.checkpoints.every_wallclock and \
-                time.monotonic() - self._last_ckpt_wall >= o.checkpoints.every_wallclock:
+        if self._agreed("wall_ckpt"):
             self.write_checkpoint("wall-clock cadence")
 
     def _loop(self, fresh: bool) -> int:
@@ -211,7 +233,7 @@ class Driver:
             self._outputs()
         cells = sim.mesh.n1 * sim.mesh.n2
         every = o.log.every_steps
-        if sys.stdout.isatty() and not self.quiet:
+        if sys.stdout.isatty() and not self.quiet and self.root:
             from tqdm import tqdm
             self._bar = tqdm(total=stop.time, initial=sim.t, unit=self.units.time,
                              bar_format="{l_bar}{bar}| {n:.4g}/{total:.4g} {unit} [{elapsed}<"
@@ -221,20 +243,26 @@ class Driver:
         while sim.t < stop.time * (1 - 1e-14):
             if stop.max_steps is not None and sim.nstep >= stop.max_steps:
                 break
-            if self.walltime is not None:
-                used = time.monotonic() - self.wall0
-                if used + self.p.stop.walltime_margin + 2 * step_wall >= self.walltime:
-                    self.write_checkpoint("wall-clock limit")
-                    self.log(f"stopping {fmt_hms(self.walltime - used)} before the wall-clock "
-                             f"limit; resume with: wind2d resume {self.dir}")
-                    self._status("stopped", reason="walltime")
-                    return EXIT_WALLTIME
+            self._flags(step_wall)                        # one collective per step
+            if self._agreed("walltime"):
+                left = (self.walltime or 0.0) - (time.monotonic() - self.wall0)
+                self.write_checkpoint("wall-clock limit")
+                self.log(f"stopping {fmt_hms(left)} before the wall-clock limit; resume "
+                         f"with: wind2d resume {self.dir}")
+                self._status("stopped", reason="walltime")
+                return EXIT_WALLTIME
+            if self._agreed("signal"):
+                name = self.stop_signal or "a signal on another rank"
+                self.write_checkpoint(f"signal {name}")
+                self.log(f"stopped by {name}; resume with: wind2d resume {self.dir}")
+                self._status("stopped", reason=name)
+                return EXIT_SIGNAL
             t_before = sim.t
             try:
-                dt = min(sim.integrator.max_dt(), self._next_output_time() - sim.t)
+                dt = min(sim.max_dt(), self._next_output_time() - sim.t)
                 w0 = time.monotonic()
+                self._fault_hook()
                 sim.step(dt)
-                sim.integrator.max_dt()            # finite check of the new state
                 step_wall = time.monotonic() - w0
             except NonFiniteStateError as exc:
                 dump = self._crash_dump(exc)
@@ -248,19 +276,21 @@ class Driver:
                 self._bar.update(sim.t - t_before)
             if sim.nstep % every == 0:
                 el = time.monotonic() - t_wall
-                rate = cells * n_wall / el if el > 0 else float("nan")
+                rate = cells * self.nranks * n_wall / el if el > 0 else float("nan")
                 eta = (stop.time - sim.t) / sim.dt_last * el / n_wall if n_wall else float("nan")
-                c = sim.counters
+                c = sim.counters                         # collective under MPI
                 self.log(f"step {sim.nstep}  t = {self._t(sim.t)}  dt = {self._t(sim.dt_last)}"
                          f"  {rate:.3g} zone-updates/s  ETA {fmt_hms(eta)}  floors: fallback "
                          f"{c['fallback_cells']} density {c['density_floor_cells']} pressure "
                          f"{c['pressure_floor_cells']}")
                 t_wall, n_wall = time.monotonic(), 0
-            if self.stop_signal:
-                self.write_checkpoint(f"signal {self.stop_signal}")
-                self.log(f"stopped by {self.stop_signal}; resume with: wind2d resume {self.dir}")
-                self._status("stopped", reason=self.stop_signal)
-                return EXIT_SIGNAL
+        try:
+            sim.max_dt()                                  # the final state is finite
+        except NonFiniteStateError as exc:
+            dump = self._crash_dump(exc)
+            self.log(f"ERROR at step {sim.nstep}: {exc}; crash dump {dump}")
+            self._status("crashed", reason=str(exc))
+            return EXIT_NONFINITE
         # the end: last snapshot if not just written, final checkpoint
         if self.book.get("last_snapshot_time") != sim.t:
             self.write_snapshot()
@@ -269,10 +299,46 @@ class Driver:
         self._status("finished")
         return EXIT_OK
 
+    # ------------------------------------------------------------ agreement
+    def _flags(self, step_wall: float) -> None:
+        """Decide together (one allreduce) whether to stop or checkpoint now: a
+        signal on any rank, or rank 0's wall clock."""
+        o = self.p.outputs
+        walltime = wall_ckpt = 0
+        if self.root:
+            used = time.monotonic() - self.wall0
+            if self.walltime is not None and \
+                    used + self.p.stop.walltime_margin + 2 * step_wall >= self.walltime:
+                walltime = 1
+            if o.checkpoints.every_wallclock and \
+                    time.monotonic() - self._last_ckpt_wall >= o.checkpoints.every_wallclock:
+                wall_ckpt = 1
+        flags = np.array([1 if self.stop_signal else 0, walltime, wall_ckpt], dtype=np.int64)
+        if self.comm is not None:
+            from mpi4py import MPI
+            out = np.empty_like(flags)
+            self.comm.Allreduce(flags, out, op=MPI.MAX)
+            flags = out
+        flags = flags.tolist()
+        self._agree = dict(zip(("signal", "walltime", "wall_ckpt"), flags))
+
+    def _agreed(self, key: str) -> bool:
+        return bool(getattr(self, "_agree", {}).get(key, 0))
+
+    def _fault_hook(self) -> None:
+        # test hook (documented in DEVELOPERS.md): fail on one rank at one step
+        r, s = os.environ.get("WIND2D_FAULT_RANK"), os.environ.get("WIND2D_FAULT_STEP")
+        if r is not None and s is not None and int(r) == (0 if self.comm is None else
+                                                           self.comm.rank) \
+                and int(s) == self.sim.nstep:
+            raise RuntimeError(f"injected fault on rank {r} at step {s} (WIND2D_FAULT_* test "
+                               "hook)")
+
     def _crash_dump(self, exc) -> Path:
         import h5py
         sim = self.sim
-        path = self.dir / f"crash_step{sim.nstep:09d}.h5"
+        tag = "" if self.comm is None else f"_rank{self.comm.rank:04d}"
+        path = self.dir / f"crash_step{sim.nstep:09d}{tag}.h5"
         W = sim.integrator.W
         m = sim.mesh
         w = W[:, m.js:m.je, m.is_:m.ie]
@@ -282,6 +348,7 @@ class Driver:
             f.attrs["message"] = str(exc)
             f.attrs["time"] = sim.t
             f.attrs["step"] = sim.nstep
+            f.attrs["tile"] = np.array(sim.mesh.window)
             f["U"] = sim.state.U
             f["W"] = W
             f["bad_cells_i"] = ii
@@ -300,6 +367,8 @@ def start(problem_file, out: Path | None, overrides, walltime=None, quiet=False)
     if (run_dir / RESOLVED).exists() or (run_dir / CKPTDIR).exists():
         raise ProblemError(str(run_dir), ["this folder already holds a run; resume it with "
                                           f"'wind2d resume {run_dir}' or choose another --out"])
+    if sim.comm is not None:
+        sim.comm.Barrier()          # every rank has checked the folder before rank 0 fills it
     return Driver(res, sim, run_dir, walltime, quiet).run(fresh=True)
 
 
@@ -322,7 +391,8 @@ def resume(run_dir, walltime=None, quiet=False, overrides=()) -> int:
         raise ProblemError(str(run_dir), [f"--set {o!r}: a resumed run may only change "
                                           "stop.* and outputs.* keys" for o in bad])
     res = load(rfile, list(overrides))
-    if overrides:
+    from .parallel import rank
+    if overrides and rank() == 0:
         tmp = rfile.with_suffix(".yaml.tmp")
         tmp.write_text(res.text)
         os.replace(tmp, rfile)
@@ -332,15 +402,18 @@ def resume(run_dir, walltime=None, quiet=False, overrides=()) -> int:
     except CheckpointError as exc:
         raise ProblemError(str(run_dir), [str(exc)]) from None
     for msg in skipped:
-        print(f"wind2d resume: skipping {msg}", file=sys.stderr)
-    restore(sim, data)
+        if sim.comm is None or sim.comm.rank == 0:
+            print(f"wind2d resume: skipping {msg}", file=sys.stderr)
+    from .parallel.gather import restore_tile
+    restore_tile(sim, data)
     d = Driver(res, sim, run_dir, walltime, quiet)
     d.book.update(data["extra"]["book"])
     d.snapshots = sorted((run_dir / SNAPDIR).glob("snapshot_*.h5"))
     # snapshots written after the checkpoint belong to the lost part of the run
     keep = d.book["snapshot_index"]
-    for s in d.snapshots[keep:]:
-        s.rename(s.with_suffix(".h5.superseded"))
+    if d.root:
+        for s in d.snapshots[keep:]:
+            s.rename(s.with_suffix(".h5.superseded"))
     d.snapshots = d.snapshots[:keep]
     code = d.run(fresh=False)
     return code

@@ -27,7 +27,7 @@ from .core.floors import COUNTER_NAMES, prim_to_cons
 from .core.integrator import Integrator
 from .core.reconstruct import LIMITERS, METHODS
 from .core.riemann import GAS_ONLY, IDEAL_ONLY, MHD_ONLY, SOLVERS
-from .errors import ParameterError
+from .errors import NonFiniteStateError, ParameterError
 from .grid.mesh import Mesh
 from .state import IDN, IPR, IB1, IB2, VariableMap, State
 
@@ -70,7 +70,7 @@ class Simulation:
                  gamma: float = 5.0 / 3.0, mhd: bool = False, riemann: str = "hllc",
                  reconstruction: str = "plm", limiter: str = "mc", courant: float = 0.4,
                  density_floor: float = 1e-12, pressure_floor: float = 1e-15,
-                 scalars=()):
+                 scalars=(), comm=None):
         eos = IdealGas(gamma) if eos is None else eos
         if not isinstance(eos, (IdealGas, Isothermal)):
             raise ParameterError("eos: allowed values are IdealGas(gamma) or "
@@ -100,13 +100,29 @@ class Simulation:
         en = edge_names(names0)
         kinds = {en.get(k, k): (v if isinstance(v, str) else v.get("kind"))
                  for k, v in boundaries.items()}
-        self.mesh = Mesh(geometry, x1, x2, ng=2,
-                         periodic1=kinds.get("x1_lo") == "periodic",
-                         periodic2=kinds.get("x2_lo") == "periodic")
+        per1, per2 = kinds.get("x1_lo") == "periodic", kinds.get("x2_lo") == "periodic"
+        self.global_mesh = Mesh(geometry, x1, x2, ng=2, periodic1=per1, periodic2=per2)
+        self.comm = comm if comm is not None and comm.size > 1 else None
         self.eos = eos
         self.varmap = VariableMap(geometry, mhd, tuple(scalars))
+        halo = None
+        if self.comm is None:
+            self.mesh = self.global_mesh
+            self.tiling = None
+        else:
+            from .grid.tiles import decompose
+            from .parallel.halo import Halo
+            gm = self.global_mesh
+            self.tiling = decompose(gm.n1, gm.n2, self.comm.size, per1, per2)
+            self.mesh = Mesh(geometry, x1, x2, ng=2, periodic1=per1, periodic2=per2,
+                             window=self.tiling.window(self.comm.rank))
+            nb = self.tiling.neighbours(self.comm.rank)
+            # a periodic axis held by one tile wraps onto itself: the local kernel does it
+            nb = {e: (None if r == self.comm.rank else r) for e, r in nb.items()}
+            halo = Halo(self.comm, self.mesh, nb, self.varmap.nvar, mhd)
         self.state = State(self.varmap.nvar, self.mesh.nt2, self.mesh.nt1, mhd)
-        self.boundaries = Boundaries(self.mesh, boundaries, self.varmap, self._state_vector)
+        self.boundaries = Boundaries(self.mesh, boundaries, self.varmap, self._state_vector,
+                                     global_mesh=self.global_mesh, halo=halo)
         self.integrator = Integrator(self.mesh, self.varmap, eos, self.boundaries,
                                      SOLVERS[riemann], LIMITERS[limiter], float(courant),
                                      density_floor, pressure_floor)
@@ -202,10 +218,31 @@ class Simulation:
         self.integrator.primitives(st)
 
     # --------------------------------------------------------------- running
+    def max_dt(self) -> float:
+        """CFL time step of the current state (the minimum over all ranks).
+
+        Raises :class:`~wind2d.errors.NonFiniteStateError` on every rank if any
+        rank holds a non-finite or non-positive state.
+        """
+        try:
+            dt, err = self.integrator.max_dt(), None
+        except NonFiniteStateError as exc:
+            dt, err = -1.0, exc
+        if self.comm is None:
+            if err is not None:
+                raise err
+            return dt
+        from mpi4py import MPI
+        bad = self.comm.allreduce(1 if err is not None else 0, op=MPI.MAX)
+        if bad:
+            raise err if err is not None else NonFiniteStateError(
+                "the state is not finite or lost positivity on another rank")
+        return self.comm.allreduce(dt, op=MPI.MIN)
+
     def step(self, dt: float | None = None) -> float:
         """Advance one step (CFL step unless ``dt`` is given); returns the step used."""
         if dt is None:
-            dt = self.integrator.max_dt()
+            dt = self.max_dt()
         self.integrator.step(self.state, dt)
         self.t += dt
         self.nstep += 1
@@ -220,14 +257,14 @@ class Simulation:
         """
         n = 0
         while self.t < t_end * (1 - 1e-14) and (max_steps is None or n < max_steps):
-            dt = self.integrator.max_dt()
+            dt = self.max_dt()
             if self.t + dt > t_end:
                 dt = t_end - self.t
             self.step(dt)
             if self.t >= t_end * (1 - 1e-14):
                 self.t = t_end
             n += 1
-        self.integrator.max_dt()     # checks the final state is finite
+        self.max_dt()     # checks the final state is finite
         return n
 
     # --------------------------------------------------------------- restart
@@ -307,6 +344,11 @@ class Simulation:
             out["momentum_z"] = float(np.sum(V * U[3]))
         if not self.eos.isothermal:
             out["energy"] = float(np.sum(V * U[4]))
+        if self.comm is not None:
+            keys = list(out)
+            tot = np.empty(len(keys))
+            self.comm.Allreduce(np.array([out[k] for k in keys]), tot)
+            out = {k: float(v) for k, v in zip(keys, tot)}
         return out
 
     def divergence(self) -> np.ndarray:
@@ -320,5 +362,11 @@ class Simulation:
 
     @property
     def counters(self) -> dict[str, int]:
-        """Cumulative positivity counters (fallback cells, floor activations)."""
-        return {n: int(c) for n, c in zip(COUNTER_NAMES, self.integrator.counters)}
+        """Cumulative positivity counters (fallback cells, floor activations), summed
+        over all ranks of a parallel run (a collective call there)."""
+        c = self.integrator.counters
+        if self.comm is not None:
+            tot = np.empty_like(c)
+            self.comm.Allreduce(c.copy(), tot)
+            c = tot
+        return {n: int(v) for n, v in zip(COUNTER_NAMES, c)}

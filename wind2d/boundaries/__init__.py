@@ -67,10 +67,18 @@ def normalise(edges: dict, axis_names, cylindrical: bool, has_axis: bool) -> dic
 class Boundaries:
     """Applies the chosen kind on each edge to ``W`` and the face fields."""
 
-    def __init__(self, mesh, edges: dict, varmap, state_vector):
+    def __init__(self, mesh, edges: dict, varmap, state_vector, global_mesh=None,
+                 halo=None):
         self.mesh = mesh
         self.mhd = varmap.mhd
-        self.edges = normalise(edges, mesh.axis_names, mesh.cylindrical, mesh.has_axis)
+        gm = global_mesh if global_mesh is not None else mesh
+        self.edges = normalise(edges, gm.axis_names, gm.cylindrical, gm.has_axis)
+        self.halo = halo
+        if halo is not None:
+            # edges shared with another tile are filled by the ghost exchange
+            for e, r in halo.nb.items():
+                if r is not None:
+                    self.edges[e] = ("exchange", None)
         self.fixed_w = {}
         for e, (kind, st) in self.edges.items():
             if kind == "fixed":
@@ -82,14 +90,18 @@ class Boundaries:
             "x2": np.array([IV2, IB2] if mhd else [IV2], dtype=np.int64),
             "axis": np.array([IV1, IV3, IB1, IB3] if mhd else [IV1, IV3], dtype=np.int64),
         }
-        self.periodic1 = self.edges["x1_lo"][0] == "periodic"
-        self.periodic2 = self.edges["x2_lo"][0] == "periodic"
+        self.periodic1 = normalise(edges, gm.axis_names, gm.cylindrical,
+                                   gm.has_axis)["x1_lo"][0] == "periodic"
+        self.periodic2 = normalise(edges, gm.axis_names, gm.cylindrical,
+                                   gm.has_axis)["x2_lo"][0] == "periodic"
 
     def _side(self, W, bn, bt, axis, side, ng, lo, hi):
         e = f"x{axis}_{'lo' if side == 0 else 'hi'}"
         kind = self.edges[e][0]
         mhd = self.mhd
         inorm = IV1 if axis == 1 else IV2
+        if kind == "exchange":
+            return
         if kind == "periodic":
             if side == 0:
                 periodic(W, bn, bt, ng, lo, hi, mhd)
@@ -107,8 +119,12 @@ class Boundaries:
         m = self.mesh
         for side in (0, 1):
             self._side(W, b1, b2, 1, side, m.ng, m.is_, m.ie)
+        if self.halo is not None:
+            self.halo.exchange(1, W, b1, b2)
         Wt = W.transpose(0, 2, 1)
         for side in (0, 1):
             self._side(Wt, b2.T, b1.T, 2, side, m.ng, m.js, m.je)
+        if self.halo is not None:
+            self.halo.exchange(2, W, b1, b2)
         if self.mhd:
             cell_centred_field(b1, b2, W, m.area1, 0, m.nt2, 0, m.nt1)

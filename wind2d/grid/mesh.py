@@ -89,10 +89,15 @@ class Mesh:
         Ghost cells per side (2 for piecewise-linear reconstruction).
     periodic1, periodic2 : bool
         Whether the axis wraps (ghost widths copy the opposite side).
+    window : tuple (i0, i1, j0, j1), optional
+        This mesh is the tile of global cells ``i0 <= i < i1``, ``j0 <= j < j1``
+        (under MPI).  Its edges, ghosts included, are slices of the global
+        padded edges, so every tile computes bitwise the same geometry as a
+        serial run.
     """
 
     def __init__(self, geometry: str, x1, x2, ng: int = 2,
-                 periodic1: bool = False, periodic2: bool = False):
+                 periodic1: bool = False, periodic2: bool = False, window=None):
         if geometry not in GEOMETRIES:
             raise ParameterError(
                 f"geometry = {geometry!r}: allowed values are {', '.join(GEOMETRIES)}")
@@ -110,13 +115,21 @@ class Mesh:
         self.axis_names = (n1, n2)
         self.spec = (x1, x2)
         self.ng = ng
-        self.n1, self.n2 = x1.cells, x2.cells
+        x1f = _padded_edges(x1, ng, periodic1)
+        x2f = _padded_edges(x2, ng, periodic2)
+        i0, i1, j0, j1 = window if window is not None else (0, x1.cells, 0, x2.cells)
+        if not (0 <= i0 < i1 <= x1.cells and 0 <= j0 < j1 <= x2.cells):
+            raise ParameterError(f"tile window {window} is outside the {x1.cells} x {x2.cells} "
+                                 "grid or empty")
+        self.window = (i0, i1, j0, j1)
+        self.global_cells = (x1.cells, x2.cells)
+        self.n1, self.n2 = i1 - i0, j1 - j0
         self.nt1, self.nt2 = self.n1 + 2 * ng, self.n2 + 2 * ng
         self.is_, self.ie = ng, ng + self.n1      # interior cells i in [is_, ie)
         self.js, self.je = ng, ng + self.n2
 
-        self.x1f = _padded_edges(x1, ng, periodic1)
-        self.x2f = _padded_edges(x2, ng, periodic2)
+        self.x1f = x1f[i0:i1 + 2 * ng + 1]
+        self.x2f = x2f[j0:j1 + 2 * ng + 1]
         self.dx1 = np.diff(self.x1f)
         self.dx2 = np.diff(self.x2f)
         self.x2c = 0.5 * (self.x2f[1:] + self.x2f[:-1])
@@ -138,7 +151,7 @@ class Mesh:
             self.h1f = np.ones(self.nt1 + 1)
             self.h1c = np.ones(self.nt1)
             self.geo1 = np.zeros(self.nt1)
-        self.has_axis = self.cylindrical and x1.lo == 0.0
+        self.has_axis = self.cylindrical and x1.lo == 0.0 and i0 == 0
         for a in ("x1f", "x2f", "dx1", "dx2", "x1c", "x2c", "vol1", "area1",
                   "h1f", "h1c", "geo1"):
             arr = np.ascontiguousarray(getattr(self, a), dtype=np.float64)
@@ -167,5 +180,8 @@ class Mesh:
 
     def __repr__(self) -> str:
         a, b = self.axis_names
+        tile = "" if self.window == (0, self.global_cells[0], 0, self.global_cells[1]) else \
+            f", tile {self.window}"
         return (f"Mesh({self.geometry}, {a}: [{self.spec[0].lo}, {self.spec[0].hi}] x "
-                f"{self.n1}, {b}: [{self.spec[1].lo}, {self.spec[1].hi}] x {self.n2})")
+                f"{self.global_cells[0]}, {b}: [{self.spec[1].lo}, {self.spec[1].hi}] x "
+                f"{self.global_cells[1]}{tile})")

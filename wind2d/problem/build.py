@@ -36,16 +36,18 @@ def _solver(gas, scheme) -> str:
     return "hllc"
 
 
-def build_simulation(res: Resolved):
+def build_simulation(res: Resolved, comm="auto"):
     """Mesh, EOS, boundaries, scheme and initial state from the problem file.
 
     Any inconsistency found here (a boundary kind not allowed on an edge, a
     setup that needs another geometry ...) is raised as :class:`ProblemError`
     before the first step.
     """
+    from ..parallel import world
     from ..setups import SetupContext, get
     from ..simulation import Simulation
 
+    comm = world() if comm == "auto" else comm
     p = res.problem
     g = p.grid
     axes = g.axes
@@ -76,7 +78,8 @@ def build_simulation(res: Resolved):
                          eos=eos, mhd=p.gas.magnetised, riemann=_solver(p.gas, p.scheme),
                          reconstruction=p.scheme.reconstruction, limiter=p.scheme.limiter,
                          courant=p.scheme.courant, density_floor=p.gas.floors.density,
-                         pressure_floor=p.gas.floors.pressure, scalars=tuple(p.gas.scalars))
+                         pressure_floor=p.gas.floors.pressure, scalars=tuple(p.gas.scalars),
+                         comm=comm)
         get(p.setup.kind)().apply(sim, res.setup_params, ctx)
         try:
             sim.integrator.max_dt()          # finite, positive density and pressure

@@ -72,6 +72,21 @@ class ProblemError(ValueError):
         super().__init__(f"{source}: invalid problem file\n" + "\n".join(f"  - {m}" for m in messages))
 
 
+def _yaml_message(exc: yaml.YAMLError, text: str) -> str:
+    """'YAML syntax error at line L, column C: what' from any PyYAML error."""
+    if isinstance(exc, yaml.reader.ReaderError):
+        before = text[:exc.position]
+        line, column = before.count("\n") + 1, len(before) - before.rfind("\n")
+        ch = exc.character
+        code = ord(ch) if isinstance(ch, str) else int(ch)
+        return (f"YAML syntax error at line {line}, column {column}: the character "
+                f"U+{code:04X} is not allowed in YAML text")
+    mark = getattr(exc, "problem_mark", None)
+    where = f" at line {mark.line + 1}, column {mark.column + 1}" if mark else ""
+    what = getattr(exc, "problem", None) or str(exc).splitlines()[0]
+    return f"YAML syntax error{where}: {what}"
+
+
 def _read_yaml(path: Path) -> dict:
     try:
         raw = path.read_bytes()
@@ -84,10 +99,7 @@ def _read_yaml(path: Path) -> dict:
     try:
         data = yaml_load(text)
     except yaml.YAMLError as exc:
-        mark = getattr(exc, "problem_mark", None)
-        where = f"line {mark.line + 1}, column {mark.column + 1}: " if mark else ""
-        what = getattr(exc, "problem", None) or str(exc).splitlines()[0]
-        raise ProblemError(str(path), [f"YAML syntax error at {where}{what}"]) from None
+        raise ProblemError(str(path), [_yaml_message(exc, text)]) from None
     if data is None:
         raise ProblemError(str(path), ["the file is empty; a problem file is a YAML mapping "
                                        "with at least title, grid, edges, setup and stop"])
@@ -182,23 +194,45 @@ def _keys_of(model: type[BaseModel]) -> list[str]:
     return [f.alias or n for n, f in model.model_fields.items()]
 
 
-def describe_errors(exc: ValidationError, root: type[BaseModel], prefix: str = "") -> list[str]:
-    """Readable messages from a pydantic error: key path, what is wrong, what is allowed."""
+_TYPE_TAG = re.compile(r"(str|int|float|bool|none|[a-z_-]+\[.*\])")
+
+
+def _key_path(loc: tuple, data) -> tuple:
+    """``loc`` without the names pydantic gives to the members of a union
+    ('str', 'dict[any,any]'); a part that is a key of the input is always kept."""
+    out, node = [], data
+    for part in loc:
+        if isinstance(node, dict) and part in node:
+            node = node[part]
+        elif isinstance(node, list) and isinstance(part, int) and 0 <= part < len(node):
+            node = node[part]
+        elif isinstance(part, str) and _TYPE_TAG.fullmatch(part):
+            continue
+        else:
+            node = None
+        out.append(part)
+    return tuple(out)
+
+
+def describe_errors(exc: ValidationError, root: type[BaseModel], prefix: str = "",
+                    data: Any = None) -> list[str]:
+    """Readable messages from a pydantic error: key path, what is wrong, what is allowed.
+
+    ``data`` is the validated input; it tells the file's keys from the names
+    pydantic gives to union members.
+    """
     out = []
     union_paths = set()
     for e in exc.errors():
-        # drop the names pydantic gives to the members of a union ('str', 'dict[...]');
-        # a union reports every member, one message per key path is enough
-        loc = tuple(p for p in e["loc"] if not (isinstance(p, str) and
-                                                 (p in ("str", "int", "float", "bool")
-                                                  or "[" in p)))
+        # a union reports every member; one message per key path is enough
+        loc = _key_path(tuple(e["loc"]), data)
         path = prefix + ".".join(str(p) for p in loc) if loc else (prefix.rstrip(".") or "(top)")
         if len(loc) != len(e["loc"]):
             if path in union_paths:
                 continue
             union_paths.add(path)
         kind = e["type"]
-        if kind == "extra_forbidden":
+        if kind == "extra_forbidden" and loc:
             parent = _model_at(root, loc[:-1])
             allowed = _keys_of(parent) if parent else []
             near = difflib.get_close_matches(str(loc[-1]), allowed, n=1)
@@ -266,13 +300,14 @@ def resolve(data: dict, source: str) -> Resolved:
             else 0.6
         units = UnitSystem(uspec.length, uspec.time, uspec.mass, mu)
     except ValidationError as exc:
-        raise ProblemError(source, describe_errors(exc, UnitsSpec, "units.")) from None
+        raise ProblemError(source, describe_errors(exc, UnitsSpec, "units.",
+                                                   units_raw)) from None
     except ParameterError as exc:
         raise ProblemError(source, [str(exc)]) from None
     try:
         problem = Problem.model_validate(data, context={"units": units})
     except ValidationError as exc:
-        errors = describe_errors(exc, Problem)
+        errors = describe_errors(exc, Problem, data=data)
         raise ProblemError(source, errors) from None
     try:
         cls = setups.get(problem.setup.kind)
@@ -282,7 +317,8 @@ def resolve(data: dict, source: str) -> Resolved:
     try:
         params = cls.Params.model_validate(params_raw, context={"units": units})
     except ValidationError as exc:
-        raise ProblemError(source, describe_errors(exc, cls.Params, "setup.")) from None
+        raise ProblemError(source, describe_errors(exc, cls.Params, "setup.",
+                                                   params_raw)) from None
     text = yaml.safe_dump(data, sort_keys=False)
     return Resolved(problem, params, units, text, source, data)
 

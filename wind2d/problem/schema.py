@@ -88,7 +88,8 @@ class AxisSpec(Strict):
     """One grid axis."""
     lo: Q("length", "lower edge") = Field(alias="from")
     hi: Q("length", "upper edge") = Field(alias="to")
-    cells: int = Field(gt=0, le=MAX_CELLS_AXIS, description="number of cells")
+    cells: int = Field(ge=2, le=MAX_CELLS_AXIS, description="number of cells (at least 2, "
+                       "the depth of the ghost zone)")
     stretch: float = Field(1.0, gt=0.0, description="ratio between neighbouring cell "
                                                     "widths (1 = uniform)")
 
@@ -240,8 +241,8 @@ class CheckpointsSpec(Strict):
     """Checkpoints: restart files, by simulated or wall-clock time."""
 
     every: Optional[Q("time", "simulated time between checkpoints")] = Field(None, gt=0.0)
-    every_wallclock: Optional[WallClock] = Field(None, description="wall-clock time between "
-                                                 "checkpoints")
+    every_wallclock: Optional[WallClock] = Field(None, gt=0.0, description="wall-clock time "
+                                                 "between checkpoints")
     keep: int = Field(3, ge=1, description="how many checkpoints to keep")
 
 

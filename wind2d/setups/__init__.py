@@ -72,6 +72,18 @@ class SetupContext:
         return out
 
 
+def apply_state(sim, state: dict) -> None:
+    """Put a state (numbers, arrays or callables per field) into the simulation:
+    the poloidal field components go to the faces (:meth:`Simulation.set_field`),
+    the rest to the cells (:meth:`Simulation.set_primitive`)."""
+    state = dict(state)
+    if sim.varmap.mhd:
+        n1, n2 = sim.field_names[5], sim.field_names[6]
+        if n1 in state or n2 in state:
+            sim.set_field(b1=state.pop(n1, 0.0), b2=state.pop(n2, 0.0))
+    sim.set_primitive(**state)
+
+
 def get(name: str):
     if name not in SETUPS:
         from difflib import get_close_matches

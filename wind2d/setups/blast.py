@@ -10,7 +10,7 @@ from pydantic import Field
 
 from ..errors import ParameterError
 from ..problem.schema import Q, Strict
-from . import register
+from . import apply_state, register
 
 
 @register("blast")
@@ -35,12 +35,18 @@ class Blast:
             raise ParameterError("setup.centre: in cylindrical geometry the blast sits on "
                                  "the axis (R = 0)")
         amb = ctx.state(params.ambient, "setup.ambient")
-        x1, x2 = sim.mesh.centres()
-        hot = np.hypot(x1 - params.centre[0], x2 - params.centre[1]) < params.radius
-        if not hot.any():
+
+        def hot_cells(mesh):
+            x1, x2 = mesh.centres()
+            return np.hypot(x1 - params.centre[0], x2 - params.centre[1]) < params.radius
+
+        # the deposit volume from the global mesh: the same number on every rank
+        gm = sim.global_mesh
+        ghot = hot_cells(gm)
+        if not ghot.any():
             raise ParameterError("setup.radius: smaller than a cell; no cell holds the energy")
-        V = sim.mesh.cell_volumes()
         per = 2.0 * np.pi if cyl else 1.0        # volumes are per radian in (R, z)
         gm1 = sim.eos.gamma - 1.0
-        p = np.where(hot, gm1 * E / (per * V[hot].sum()), amb.get("p", 0.0))
-        sim.set_primitive(**{**amb, "p": p})
+        p = np.where(hot_cells(sim.mesh), gm1 * E / (per * gm.cell_volumes()[ghot].sum()),
+                     amb.get("p", 0.0))
+        apply_state(sim, {**amb, "p": p})

@@ -23,10 +23,9 @@ class FieldLoop:
             raise ParameterError("setup.kind = 'field_loop' needs a cartesian grid and "
                                  "gas.magnetised: true")
         st = ctx.state(q.state, "setup.state")
-        inplane = sorted(k for k in st if k in sim.field_names[5:7])
-        if inplane:
-            raise ParameterError(f"setup.state.{inplane[0]}: the in-plane field is the loop's; "
-                                 f"the state may give only {sim.field_names[7]}")
+        if set(st) & set(sim.field_names[5:7]):
+            raise ParameterError("setup.state: the in-plane field is the loop's; give no "
+                                 + " or ".join(sim.field_names[5:7]))
         c = q.centre
 
         def A(x, y):
