@@ -151,15 +151,26 @@ def main(argv=None) -> int:
         if args.command == "plot":
             return cmd_plot(args)
     except (ProblemError, ParameterError) as exc:
-        print(f"wind2d {args.command}: {exc}", file=sys.stderr)
+        # every rank validates the same input, so all of them stop here; one prints
+        if rank() == 0:
+            print(f"wind2d {args.command}: {exc}", file=sys.stderr)
         return 2
     except FileNotFoundError as exc:
-        print(f"wind2d {args.command}: {exc.filename}: no such file", file=sys.stderr)
+        if rank() == 0:
+            print(f"wind2d {args.command}: {exc.filename}: no such file", file=sys.stderr)
         return 2
     except MemoryError:
-        print(f"wind2d {args.command}: not enough memory for this problem on this machine; "
-              "use fewer cells (grid.*.cells)", file=sys.stderr)
+        if rank() == 0:
+            print(f"wind2d {args.command}: not enough memory for this problem on this "
+                  "machine; use fewer cells (grid.*.cells)", file=sys.stderr)
         return 2
+    except BaseException as exc:
+        # a failure on one rank must end the whole job with its message, not hang it
+        if parallel and not isinstance(exc, (SystemExit, KeyboardInterrupt)):
+            import traceback
+            abort(f"wind2d {args.command}: rank {rank()} failed: {type(exc).__name__}: {exc}"
+                  f"\n{traceback.format_exc()}", 1)
+        raise
     return 1
 
 

@@ -5,7 +5,11 @@ The mapping of cells and faces is that of the periodic kernel
 (``boundaries/periodic.py``): a tile's ghosts receive exact copies of its
 neighbour's interior, so the state stays bitwise identical to a serial run.
 Axis 1 is exchanged over all rows, then axis 2 over all columns (ghost columns
-included), which fills the corner ghosts as the serial boundaries do.
+included), which fills the corner ghosts as the serial boundaries do.  The
+face a tile shares with its upper neighbour is overwritten with that
+neighbour's copy, as the periodic kernel does for the wrap-around face: its
+two computations can differ in the last bit there (ghost centres at the two
+ends of a periodic axis differ by round-off).
 """
 from __future__ import annotations
 
@@ -23,7 +27,7 @@ class Halo:
             nt = m.nt2 if axis == 1 else m.nt1             # transverse length (cells)
             size = nvar * nt * g
             if mhd:
-                size += nt * g + (nt + 1) * g
+                size += nt * (g + 1) + (nt + 1) * g
             self.plan[axis] = size
             for side in ("lo", "hi"):
                 r = neighbours[f"x{axis}_{side}"]
@@ -38,8 +42,8 @@ class Halo:
         vw = buf[:a].reshape(nv, nt, g)
         if not self.mhd:
             return vw, None, None
-        vbn = buf[a:a + nt * g].reshape(nt, g)
-        vbt = buf[a + nt * g:].reshape(nt + 1, g)
+        vbn = buf[a:a + nt * (g + 1)].reshape(nt, g + 1)
+        vbt = buf[a + nt * (g + 1):].reshape(nt + 1, g)
         return vw, vbn, vbt
 
     def exchange(self, axis: int, W, b1, b2) -> None:
@@ -67,12 +71,12 @@ class Halo:
             if side == "lo":      # my first interior columns go to the low neighbour
                 vw[...] = Wv[:, :, lo:lo + g]
                 if self.mhd:
-                    vbn[...] = bn[:, lo + 1:lo + 1 + g]
+                    vbn[...] = bn[:, lo:lo + 1 + g]          # shared face included
                     vbt[...] = bt[:, lo:lo + g]
             else:
                 vw[...] = Wv[:, :, hi - g:hi]
                 if self.mhd:
-                    vbn[...] = bn[:, hi - g:hi]
+                    vbn[...] = bn[:, hi - g:hi + 1]          # last column unused
                     vbt[...] = bt[:, hi - g:hi]
             reqs.append(self.comm.Isend([send, MPI.DOUBLE], dest=r, tag=tag_out))
         MPI.Request.Waitall(reqs)
@@ -84,10 +88,10 @@ class Halo:
             if side == "lo":      # from the low neighbour's last interior columns
                 Wv[:, :, lo - g:lo] = vw
                 if self.mhd:
-                    bn[:, lo - g:lo] = vbn
+                    bn[:, lo - g:lo] = vbn[:, :g]
                     bt[:, lo - g:lo] = vbt
             else:                 # from the high neighbour's first interior columns
                 Wv[:, :, hi:hi + g] = vw
                 if self.mhd:
-                    bn[:, hi + 1:hi + 1 + g] = vbn
+                    bn[:, hi:hi + 1 + g] = vbn               # the shared face too
                     bt[:, hi:hi + g] = vbt

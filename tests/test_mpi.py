@@ -1,0 +1,135 @@
+"""Parallel runs with mpiexec: results independent of the rank count.
+
+Reference: the serial run of the same problem (the decomposition must not
+change a single bit: tiles compute the same arithmetic on the same numbers).
+Each case is a problem file text; add a module's case to CASES to cover it.
+"""
+import os
+import shutil
+import subprocess
+import sys
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+from wind2d.io import list_checkpoints, read_checkpoint, read_snapshot
+
+pytest.importorskip("mpi4py")
+MPIEXEC = shutil.which("mpiexec", path=str(Path(sys.executable).parent)) or \
+    shutil.which("mpiexec")
+if MPIEXEC is None:
+    pytest.skip("no mpiexec", allow_module_level=True)
+
+CASES = {
+    "mhd_cylindrical_stretched_axis": """
+title: MHD blast on a stretched (R, z) grid with the axis
+grid:
+  geometry: cylindrical
+  R: {from: 0, to: 1, cells: 30, stretch: 1.03}
+  z: {from: -1, to: 1, cells: 37}
+edges: {R_low: axis, R_high: outflow, z_low: outflow, z_high: outflow}
+gas: {magnetised: true}
+setup: {kind: blast, energy: 1.0, radius: 0.15, ambient: {rho: 1.0, p: 0.1, Bz: 0.5}}
+stop: {time: 10.0, max_steps: 24}
+outputs: {snapshots: {every: 0.02}, history: {every: 0.005}}
+""",
+    "gas_cylindrical_rotating": """
+title: rotating gas cylinder, reflecting outer wall, periodic z
+grid:
+  geometry: cylindrical
+  R: {from: 0, to: 1, cells: 33, stretch: 1.02}
+  z: {from: 0, to: 0.5, cells: 18}
+edges: {R_low: axis, R_high: reflecting, z_low: periodic, z_high: periodic}
+setup: {kind: rotating_equilibrium, rho: 1.0, p0: 1.0, v0: 0.5, a: 0.3}
+stop: {time: 10.0, max_steps: 24}
+outputs: {snapshots: {every: 0.05}, history: {every: 0.01}}
+""",
+    "mhd_cartesian_periodic": """
+title: field loop in a periodic box
+grid:
+  geometry: cartesian
+  x: {from: -1, to: 1, cells: 40}
+  y: {from: -0.5, to: 0.5, cells: 22}
+edges: {x_low: periodic, x_high: periodic, y_low: periodic, y_high: periodic}
+gas: {magnetised: true}
+setup: {kind: field_loop, amplitude: 1e-3, radius: 0.3, state: {rho: 1, p: 1, vx: 2, vy: 1, vz: 0.5}}
+stop: {time: 10.0, max_steps: 24}
+outputs: {snapshots: {every: 0.05}, history: {every: 0.01}}
+""",
+}
+RANKS = {"mhd_cylindrical_stretched_axis": (2, 3, 4), "gas_cylindrical_rotating": (2, 4),
+         "mhd_cartesian_periodic": (2, 3)}
+
+
+def _launch(n, args, cwd, env=None, timeout=240):
+    cmd = [sys.executable, "-m", "wind2d", *map(str, args)]
+    if n > 1:
+        cmd = [MPIEXEC, "-n", str(n), *cmd]
+    e = dict(os.environ, **(env or {}))
+    return subprocess.run(cmd, cwd=cwd, capture_output=True, text=True, timeout=timeout,
+                          env=e)
+
+
+def _state(run):
+    return read_checkpoint(list_checkpoints(Path(run) / "checkpoints")[0][1])["state"]
+
+
+def _same(a, b):
+    keys = [k for k in ("U", "b1", "b2", "counters") if k in a]
+    return a["t"] == b["t"] and a["nstep"] == b["nstep"] and \
+        all(np.array_equal(a[k], b[k]) for k in keys)
+
+
+@pytest.fixture(scope="module")
+def serial_runs(tmp_path_factory):
+    root = tmp_path_factory.mktemp("serial")
+    for name, text in CASES.items():
+        (root / f"{name}.yaml").write_text(text)
+        r = _launch(1, ["run", f"{name}.yaml", "--out", name, "--quiet"], root)
+        assert r.returncode == 0, r.stderr
+    return root
+
+
+@pytest.mark.parametrize("case,n", [(c, n) for c, ns in RANKS.items() for n in ns])
+def test_state_is_bitwise_identical_on_any_rank_count(serial_runs, tmp_path, case, n):
+    (tmp_path / "p.yaml").write_text(CASES[case])
+    r = _launch(n, ["run", "p.yaml", "--out", "run", "--quiet"], tmp_path)
+    assert r.returncode == 0, r.stderr
+    assert _same(_state(tmp_path / "run"), _state(serial_runs / case))
+    if n == 2:
+        # snapshots read back as single global arrays equal to the serial run's
+        for snap in sorted((serial_runs / case / "snapshots").glob("snapshot_*.h5")):
+            a = read_snapshot(snap)
+            b = read_snapshot(tmp_path / "run" / "snapshots" / snap.name)
+            assert a.time == b.time
+            for k in a.fields:
+                assert np.array_equal(a.fields[k], b.fields[k]), (snap.name, k)
+
+
+@pytest.mark.parametrize("first,second", [(4, 1), (4, 2), (1, 2)])
+def test_checkpoint_resumes_on_another_rank_count(serial_runs, tmp_path, first, second):
+    case = "mhd_cylindrical_stretched_axis"
+    (tmp_path / "p.yaml").write_text(CASES[case])
+    r = _launch(first, ["run", "p.yaml", "--out", "run", "--quiet", "--set",
+                        "stop.max_steps=11"], tmp_path)
+    assert r.returncode == 0, r.stderr
+    r = _launch(second, ["resume", "run", "--quiet", "--set", "stop.max_steps=24"], tmp_path)
+    assert r.returncode == 0, r.stderr
+    assert _same(_state(tmp_path / "run"), _state(serial_runs / case))
+
+
+def test_failure_on_one_rank_ends_the_job_with_its_message(tmp_path):
+    (tmp_path / "p.yaml").write_text(CASES["mhd_cartesian_periodic"])
+    r = _launch(2, ["run", "p.yaml", "--out", "run", "--quiet"], tmp_path,
+                env={"WIND2D_FAULT_RANK": "1", "WIND2D_FAULT_STEP": "3"}, timeout=60)
+    assert r.returncode != 0
+    assert "rank 1 failed" in r.stderr and "injected fault" in r.stderr
+
+
+def test_a_rank_count_that_leaves_a_tile_empty_is_refused(tmp_path):
+    (tmp_path / "p.yaml").write_text(CASES["mhd_cartesian_periodic"].replace(
+        "cells: 22", "cells: 2").replace("cells: 40", "cells: 3"))
+    r = _launch(4, ["run", "p.yaml", "--out", "run", "--quiet"], tmp_path, timeout=60)
+    assert r.returncode == 2, r.stderr
+    assert "ranks" in r.stderr and "Traceback" not in r.stderr
