@@ -105,6 +105,12 @@ def test_state_is_bitwise_identical_on_any_rank_count(serial_runs, tmp_path, cas
             assert a.time == b.time
             for k in a.fields:
                 assert np.array_equal(a.fields[k], b.fields[k]), (snap.name, k)
+        # every rank wrote its own tile; the global file holds virtual datasets over them
+        import h5py
+        last = sorted((tmp_path / "run" / "snapshots").glob("snapshot_*.h5"))[-1]
+        with h5py.File(last, "r") as f:
+            assert f["fields/rho"].is_virtual
+            assert len({s.file_name for s in f["fields/rho"].virtual_sources()}) == n
 
 
 @pytest.mark.parametrize("first,second", [(4, 1), (4, 2), (1, 2)])

@@ -113,9 +113,20 @@ class Driver:
         from .parallel.gather import GlobalView
         k = self.book["snapshot_index"]
         path = self.dir / SNAPDIR / f"snapshot_{k:05d}.h5"
-        view = GlobalView(self.sim)                      # collective under MPI
+        if self.comm is None:
+            write_snapshot(path, GlobalView(self.sim), self.units, self._provenance())
+        else:
+            # every rank writes its tile; rank 0 writes the global file of virtual datasets
+            from .io import write_tile
+            rel = f"tiles/snapshot_{k:05d}_rank{self.comm.rank:04d}.h5"
+            kinds = write_tile(self.dir / SNAPDIR / rel, self.sim, self.units)
+            tiles = self.comm.gather((rel, self.sim.mesh.window), root=0)
+            view = GlobalView(self.sim, fields=False)     # collective (counters)
+            self.comm.Barrier()
+            if self.root:
+                write_snapshot(path, view, self.units, self._provenance(), tiles=tiles,
+                               kinds=kinds)
         if self.root:
-            write_snapshot(path, view, self.units, self._provenance())
             self.snapshots = sorted((self.dir / SNAPDIR).glob("snapshot_*.h5"))
             write_series(self.dir / SNAPDIR, self.snapshots)
         self.book["snapshot_index"] = k + 1

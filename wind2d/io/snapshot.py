@@ -111,9 +111,31 @@ def check_finite(fields: dict[str, tuple[np.ndarray, str]], path=None) -> None:
                 f"= {arr[j, i]!r}")
 
 
+def write_tile(path, sim, units,
+               extra_fields: dict[str, tuple[np.ndarray, str]] | None = None) -> dict:
+    """Write this rank's tile of every snapshot field (parallel runs).
+
+    Returns ``{name: kind}`` in field order.  Raises NonFiniteStateError (and
+    writes nothing) if a field is not finite.  The global snapshot refers to
+    these files through HDF5 virtual datasets (see :func:`write_snapshot`).
+    """
+    path = Path(path)
+    fields = snapshot_fields(sim, extra_fields)
+    check_finite(fields, path)
+    path.parent.mkdir(parents=True, exist_ok=True)
+    with atomic_path(path) as tmp:
+        with h5py.File(tmp, "w") as f:
+            f.attrs["format"] = FORMAT_NAME + "-tile"
+            f.attrs["window"] = np.array(sim.mesh.window, dtype=np.int64)
+            g = f.create_group("fields", track_order=True)
+            for name, (arr, _kind) in fields.items():
+                g.create_dataset(name, data=arr)
+    return {name: kind for name, (_arr, kind) in fields.items()}
+
+
 def write_snapshot(path, sim, units, provenance: dict,
                    extra_fields: dict[str, tuple[np.ndarray, str]] | None = None,
-                   xdmf: bool = True) -> Path:
+                   xdmf: bool = True, tiles=None, kinds=None) -> Path:
     """Write one snapshot of ``sim`` to ``path`` (HDF5) and its XDMF sidecar.
 
     Parameters
@@ -129,13 +151,27 @@ def write_snapshot(path, sim, units, provenance: dict,
         Module fields (kind a key of ``wind2d.problem.units.KINDS``).
     xdmf : bool
         Also write ``<path stem>.xdmf`` next to the file.
+    tiles, kinds : optional
+        Parallel runs: ``tiles`` lists ``(file relative to path's folder,
+        (i0, i1, j0, j1))`` of the tile files written by :func:`write_tile`,
+        ``kinds`` maps field name to kind.  The fields are then HDF5 virtual
+        datasets over the tiles: readers see one global array per field.
 
     Raises NonFiniteStateError (and writes nothing) if any field is not finite.
     """
     path = Path(path)
-    fields = snapshot_fields(sim, extra_fields)
-    check_finite(fields, path)
     m, eos = sim.mesh, sim.eos
+    if tiles is None:
+        fields = snapshot_fields(sim, extra_fields)
+        check_finite(fields, path)
+    else:
+        fields = {}
+        for name, kind in kinds.items():
+            lay = h5py.VirtualLayout(shape=(m.n2, m.n1), dtype="f8")
+            for rel, (i0, i1, j0, j1) in tiles:
+                lay[j0:j1, i0:i1] = h5py.VirtualSource(str(rel), f"fields/{name}",
+                                                       shape=(j1 - j0, i1 - i0))
+            fields[name] = (lay, kind)
     names = list(fields)
     with atomic_path(path) as tmp:
         with h5py.File(tmp, "w") as f:
@@ -175,7 +211,10 @@ def write_snapshot(path, sim, units, provenance: dict,
 
             g = f.create_group("fields", track_order=True)
             for name, (arr, kind) in fields.items():
-                ds = g.create_dataset(name, data=arr)
+                if tiles is None:
+                    ds = g.create_dataset(name, data=arr)
+                else:
+                    ds = g.create_virtual_dataset(name, arr, fillvalue=np.nan)
                 ds.attrs["unit"] = units.cgs_unit(kind)
                 ds.attrs["to_cgs"] = float(units.to_cgs(kind))
                 ds.attrs["kind"] = kind

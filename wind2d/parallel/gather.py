@@ -34,7 +34,7 @@ class GlobalView:
     On ranks other than 0 the gathered arrays are ``None``; only rank 0 writes.
     """
 
-    def __init__(self, sim):
+    def __init__(self, sim, fields: bool = True):
         self.sim = sim
         self.mesh = sim.global_mesh
         self.varmap, self.eos, self.options = sim.varmap, sim.eos, sim.options
@@ -45,6 +45,9 @@ class GlobalView:
         if sim.comm is None:
             self._fields = {n: sim.field(n) for n in sim.varmap.primitive_names}
             self._state = sim.export_state()
+            return
+        if not fields:              # metadata only (snapshots over tile files)
+            self._fields, self._state = {}, None
             return
         self._fields = {n: _gather(sim, sim.field(n), (gm.n2, gm.n1))
                         for n in sim.varmap.primitive_names}
