@@ -81,7 +81,7 @@ def cmd_check(args) -> int:
         print(f"grid {name}: {us.describe(spec.lo, 'length')} .. {us.describe(spec.hi, 'length')},"
               f" {spec.cells} cells, widths {us.describe(w.min(), 'length')} .. "
               f"{us.describe(w.max(), 'length')}")
-    print(f"edges: " + ", ".join(f"{k}: {v if isinstance(v, str) else v.get('kind')}"
+    print("edges: " + ", ".join(f"{k}: {v if isinstance(v, str) else v.get('kind')}"
                                 for k, v in p.edges.items()))
     print(f"gas: eos {p.gas.eos}, gamma {p.gas.gamma:.6g}, magnetised {p.gas.magnetised}, "
           f"floors density {us.describe(p.gas.floors.density, 'density')}, pressure "

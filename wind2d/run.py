@@ -26,8 +26,6 @@ import numpy as np
 from . import __version__
 from .errors import NonFiniteStateError
 from .problem import ProblemError, build_simulation, load
-from .problem.load import resolve
-import yaml
 
 EXIT_OK, EXIT_ERROR, EXIT_INPUT, EXIT_SIGNAL, EXIT_WALLTIME, EXIT_NONFINITE = 0, 1, 2, 3, 4, 5
 
@@ -190,7 +188,7 @@ class Driver:
 
     def run(self, fresh: bool) -> int:
         from .io import History
-        o, stop = self.p.outputs, self.p.stop
+        stop = self.p.stop
         if self.root:
             self.dir.mkdir(parents=True, exist_ok=True)
             (self.dir / SNAPDIR).mkdir(exist_ok=True)
@@ -392,7 +390,7 @@ def resume(run_dir, walltime=None, quiet=False, overrides=()) -> int:
     ``overrides`` may change only ``stop.*`` and ``outputs.*`` (e.g. extend
     the run); the resolved problem file of the run directory is updated.
     """
-    from .io import CheckpointError, find_latest_valid, restore
+    from .io import CheckpointError, find_latest_valid
     run_dir = Path(run_dir)
     rfile = run_dir / RESOLVED
     if not rfile.is_file():
