@@ -163,6 +163,7 @@ class Simulation:
         from :meth:`set_field` (face-centred, divergence-free).
         """
         x1, x2 = self.mesh.centres()
+        self._set_up_primitives()
         for k, v in fields.items():
             if k not in self.varmap:
                 raise ParameterError(f"set_primitive: unknown field {k!r}; allowed: "
@@ -207,9 +208,16 @@ class Simulation:
             st.b1[:, is_] = 0.0
         self._sync()
 
+    def _set_up_primitives(self) -> None:
+        # the set-up copy of the primitives lives only until the first step
+        if self._W0 is None:
+            m = self.mesh
+            self._W0 = self.integrator.W[:, m.js:m.je, m.is_:m.ie].copy()
+
     def _sync(self) -> None:
         m, vm, st = self.mesh, self.varmap, self.state
         W = self.integrator.W
+        self._set_up_primitives()
         W[:, m.js:m.je, m.is_:m.ie] = self._W0
         if vm.mhd:
             ct.cell_centred_field(st.b1, st.b2, W, m.area1, m.js, m.je, m.is_, m.ie)
@@ -243,6 +251,7 @@ class Simulation:
         """Advance one step (CFL step unless ``dt`` is given); returns the step used."""
         if dt is None:
             dt = self.max_dt()
+        self._W0 = None
         self.integrator.step(self.state, dt)
         self.t += dt
         self.nstep += 1
