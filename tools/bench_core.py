@@ -88,13 +88,15 @@ PERIODIC = {"x_low": "periodic", "x_high": "periodic",
 REF_BUDGET = 300 * 256 * 256
 
 
-def build_sim(case: str, n: int):
-    """A uniform periodic n x n Cartesian simulation with the benchmark state."""
+def build_sim(case: str, n: int, n2: int | None = None, comm=None):
+    """The benchmark state on a periodic Cartesian box of n x n2 square cells
+    (n2 = n by default; the box is n/n2 by 1), on ``comm``'s ranks if given."""
     from wind2d import Simulation
     c = CASES[case]
-    sim = Simulation("cartesian", x1=(0.0, 1.0, n), x2=(0.0, 1.0, n), boundaries=PERIODIC,
+    n2 = n if n2 is None else n2
+    sim = Simulation("cartesian", x1=(0.0, n / n2, n), x2=(0.0, 1.0, n2), boundaries=PERIODIC,
                      gamma=5.0 / 3.0, mhd=c["mhd"], riemann=c["riemann"], limiter="mc",
-                     courant=0.4)
+                     courant=0.4, comm=comm)
     tp = 2.0 * math.pi
     sim.set_primitive(rho=lambda x, y: 1.0 + RHO_AMP * np.sin(tp * (x + y)),
                       vx=ADV, vy=ADV,

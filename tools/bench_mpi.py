@@ -64,7 +64,6 @@ from __future__ import annotations
 
 import argparse
 import json
-import math
 import os
 import platform
 import shutil
@@ -78,15 +77,11 @@ REPO = Path(__file__).resolve().parents[1]
 TAG = "wind2d-bench-mpi"
 
 # ----------------------------------------------------------------- problem
-RHO_AMP = 0.2        # density wave amplitude
-P_AMP = 0.05         # pressure perturbation amplitude
-ADV = 0.5            # advection velocity along x and y
-B0 = 0.5             # in-plane field strength (plasma beta = 2 p / B0^2 = 8)
-B_ANGLE = math.pi / 6.0
-BZ = 0.05            # weak out-of-plane field
-PERIODIC = {"x_low": "periodic", "x_high": "periodic",
-            "y_low": "periodic", "y_high": "periodic"}
-LABEL = "MHD: PLM(mc) + HLLD + CT + predictor-corrector, periodic Cartesian box"
+# the state of tools/bench_core.py (MHD case), so the two benchmarks compare
+sys.path.insert(0, str(Path(__file__).resolve().parent))
+from bench_core import CASES, build_sim as _core_build  # noqa: E402
+
+LABEL = "MHD: " + CASES["mhd"]["label"] + ", periodic Cartesian box"
 
 # single-threaded children: one core per rank, nothing else
 CHILD_ENV = {"OMP_NUM_THREADS": "1", "OPENBLAS_NUM_THREADS": "1", "MKL_NUM_THREADS": "1",
@@ -94,19 +89,8 @@ CHILD_ENV = {"OMP_NUM_THREADS": "1", "OPENBLAS_NUM_THREADS": "1", "MKL_NUM_THREA
 
 
 def build_sim(n1: int, n2: int, comm):
-    """The benchmark state on an n1 x n2 unit-aspect-cell periodic box."""
-    import numpy as np
-    from wind2d import Simulation
-    sim = Simulation("cartesian", x1=(0.0, n1 / n2, n1), x2=(0.0, 1.0, n2),
-                     boundaries=PERIODIC, gamma=5.0 / 3.0, mhd=True, riemann="hlld",
-                     limiter="mc", courant=0.4, comm=comm)
-    tp = 2.0 * math.pi
-    sim.set_primitive(rho=lambda x, y: 1.0 + RHO_AMP * np.sin(tp * (x + y)),
-                      vx=ADV, vy=ADV,
-                      p=lambda x, y: 1.0 + P_AMP * np.sin(tp * x) * np.cos(2.0 * tp * y))
-    sim.set_field(b1=B0 * math.cos(B_ANGLE), b2=B0 * math.sin(B_ANGLE))
-    sim.set_primitive(Bz=BZ)
-    return sim
+    """The benchmark MHD state on an n1 x n2 box of square cells."""
+    return _core_build("mhd", n1, n2, comm)
 
 
 # ----------------------------------------------------------------- worker

@@ -112,7 +112,7 @@ class Driver:
         k = self.book["snapshot_index"]
         path = self.dir / SNAPDIR / f"snapshot_{k:05d}.h5"
         if self.comm is None:
-            write_snapshot(path, GlobalView(self.sim), self.units, self._provenance())
+            write_snapshot(path, self.sim, self.units, self._provenance())
         else:
             # every rank writes its tile; rank 0 writes the global file of virtual datasets
             from .io import write_tile
@@ -137,7 +137,8 @@ class Driver:
         path = self.dir / CKPTDIR / checkpoint_name(self.sim.nstep)
         extra = {"book": self.book, "problem": self.res.text, "reason": reason,
                  "ranks": self.nranks}
-        view = GlobalView(self.sim)                      # collective under MPI
+        # a parallel run gathers its tiles (collective); a serial run writes itself
+        view = self.sim if self.comm is None else GlobalView(self.sim)
         if self.root:
             write_checkpoint(path, view, extra)
             prune(self.dir / CKPTDIR, self.p.outputs.checkpoints.keep)

@@ -73,6 +73,9 @@ class Boundaries:
         self.mhd = varmap.mhd
         gm = global_mesh if global_mesh is not None else mesh
         self.edges = normalise(edges, gm.axis_names, gm.cylindrical, gm.has_axis)
+        # periodicity of the global grid, before tile edges become exchanges
+        self.periodic1 = self.edges["x1_lo"][0] == "periodic"
+        self.periodic2 = self.edges["x2_lo"][0] == "periodic"
         self.halo = halo
         if halo is not None:
             # edges shared with another tile are filled by the ghost exchange
@@ -90,10 +93,6 @@ class Boundaries:
             "x2": np.array([IV2, IB2] if mhd else [IV2], dtype=np.int64),
             "axis": np.array([IV1, IV3, IB1, IB3] if mhd else [IV1, IV3], dtype=np.int64),
         }
-        self.periodic1 = normalise(edges, gm.axis_names, gm.cylindrical,
-                                   gm.has_axis)["x1_lo"][0] == "periodic"
-        self.periodic2 = normalise(edges, gm.axis_names, gm.cylindrical,
-                                   gm.has_axis)["x2_lo"][0] == "periodic"
 
     def _side(self, W, bn, bt, axis, side, ng, lo, hi):
         e = f"x{axis}_{'lo' if side == 0 else 'hi'}"
