@@ -94,6 +94,9 @@ def get(name: str):
     return SETUPS[name]
 
 
-# the built-in setups register themselves on import
-from . import (blast, field_loop, linear_wave, radial_equilibria, shock_tube,  # noqa: E402,F401
-               uniform)
+# the built-in setups register themselves on import: every file of this folder
+import importlib as _importlib  # noqa: E402
+import pkgutil as _pkgutil  # noqa: E402
+
+for _info in sorted(_pkgutil.iter_modules(__path__), key=lambda m: m.name):
+    _importlib.import_module(f"{__name__}.{_info.name}")
