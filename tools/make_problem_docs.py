@@ -323,6 +323,25 @@ def render() -> str:
         if doc:
             out += [doc, ""]
         out += table(cls.Params) + [""]
+
+    from wind2d.physics import MODULES
+    out += ["## Physics modules", "",
+            "Each key of the `physics` section names a module; its value holds the "
+            "module's keys.  Modules act in a fixed order within a step "
+            "(`docs/plugins.md`).  Built-in modules:", ""]
+    for name in sorted(n for n, c in MODULES.items() if c.__module__.startswith("wind2d.")):
+        cls = MODULES[name]
+        out += [f"### `physics.{name}`", ""]
+        doc = _doc(cls) or _doc(sys.modules[cls.__module__])
+        if doc:
+            out += [doc, ""]
+        out += table(cls.Params) + [""]
+        for paths, model in sections(cls.Params):
+            title = ", ".join(f"`physics.{name}.{p}`" for p in paths)
+            out += [f"#### {title}", ""]
+            if _doc(model):
+                out += [_doc(model), ""]
+            out += table(model) + [""]
     return "\n".join(out).rstrip() + "\n"
 
 

@@ -150,6 +150,7 @@ class Driver:
         row = {"time": self.sim.t, "dt": self.sim.dt_last, "step": self.sim.nstep}
         row.update(self.sim.totals())
         row.update(self.sim.counters)
+        row.update({k: v for k, (v, _kind) in self.sim.module_history().items()})
         return row
 
     def history_columns(self):
@@ -158,8 +159,11 @@ class Driver:
                  f"{self.units.time}-2"}
         mom = f"{self.units.mass} {self.units.length} {self.units.time}-1"
         cols = []
+        module_kinds = {k: kind for k, (_v, kind) in self.sim.module_history().items()}
         for name in self.history_row():
-            if name.startswith("momentum"):
+            if name in module_kinds:
+                unit = self.units.code_unit(module_kinds[name])
+            elif name.startswith("momentum"):
                 unit = mom
             elif name == "angular_momentum":
                 unit = f"{mom} {self.units.length}"

@@ -32,6 +32,12 @@ from .grid.mesh import Mesh
 from .state import IDN, IPR, IB1, IB2, VariableMap, State
 
 
+def _overrides(module, hook: str) -> bool:
+    """True if ``module`` defines ``hook`` itself rather than inheriting the no-op."""
+    from .physics.base import Module
+    return getattr(type(module), hook) is not getattr(Module, hook)
+
+
 def _choice(name, value, allowed):
     if value not in allowed:
         raise ParameterError(f"{name} = {value!r}: allowed values are {', '.join(allowed)}")
@@ -64,13 +70,20 @@ class Simulation:
         Positivity floors in code units.
     scalars : sequence of str
         Names of passive scalars advected with the mass flux.
+    modules : sequence of wind2d.physics.Module
+        Physics modules (gravity, cooling, ...); they act in increasing
+        ``order`` (ties keep the given order) through the hooks of
+        :mod:`wind2d.physics.base`.  Without modules the run is exactly the
+        bare Godunov core.
+    comm : mpi4py communicator, optional
+        Split the grid into tiles over the ranks of ``comm``.
     """
 
     def __init__(self, geometry: str, x1, x2, boundaries: dict, *, eos=None,
                  gamma: float = 5.0 / 3.0, mhd: bool = False, riemann: str = "hllc",
                  reconstruction: str = "plm", limiter: str = "mc", courant: float = 0.4,
                  density_floor: float = 1e-12, pressure_floor: float = 1e-15,
-                 scalars=(), comm=None):
+                 scalars=(), modules=(), comm=None):
         eos = IdealGas(gamma) if eos is None else eos
         if not isinstance(eos, (IdealGas, Isothermal)):
             raise ParameterError("eos: allowed values are IdealGas(gamma) or "
@@ -104,7 +117,9 @@ class Simulation:
         self.global_mesh = Mesh(geometry, x1, x2, ng=2, periodic1=per1, periodic2=per2)
         self.comm = comm if comm is not None and comm.size > 1 else None
         self.eos = eos
-        self.varmap = VariableMap(geometry, mhd, tuple(scalars))
+        modules = sorted(modules, key=lambda mod: mod.order)      # stable: ties keep order
+        self.varmap = VariableMap(geometry, mhd, tuple(scalars),
+                                  tuple(v for mod in modules for v in mod.variables))
         halo = None
         if self.comm is None:
             self.mesh = self.global_mesh
@@ -134,6 +149,12 @@ class Simulation:
         self._W0 = np.zeros((self.varmap.nvar, self.mesh.n2, self.mesh.n1))
         self._W0[IDN] = 1.0
         self._W0[IPR] = 1.0 if not eos.isothermal else eos.cs2
+        self.modules = list(modules)
+        self._split = [mod for mod in self.modules if _overrides(mod, "split_source")]
+        self.integrator.modules = self.modules
+        self.integrator.owner = self
+        for mod in self.modules:
+            mod.attach(self)
 
     # --------------------------------------------------------------- setup
     def _state_vector(self, values: dict) -> np.ndarray:
@@ -221,7 +242,7 @@ class Simulation:
         W[:, m.js:m.je, m.is_:m.ie] = self._W0
         if vm.mhd:
             ct.cell_centred_field(st.b1, st.b2, W, m.area1, m.js, m.je, m.is_, m.ie)
-        prim_to_cons(W, st.U, self.eos.gamma, self.eos.isothermal, vm.mhd, vm.nhydro,
+        prim_to_cons(W, st.U, self.eos.gamma, self.eos.isothermal, vm.mhd, vm.nhydro, vm.nadv,
                      m.js, m.je, m.is_, m.ie)
         self.integrator.primitives(st)
 
@@ -234,6 +255,8 @@ class Simulation:
         """
         try:
             dt, err = self.integrator.max_dt(), None
+            for mod in self.modules:
+                dt = min(dt, float(mod.max_dt(self)))
         except NonFiniteStateError as exc:
             dt, err = -1.0, exc
         if self.comm is None:
@@ -253,6 +276,10 @@ class Simulation:
             dt = self.max_dt()
         self._W0 = None
         self.integrator.step(self.state, dt)
+        if self._split:
+            for mod in self._split:
+                mod.split_source(self, dt)
+            self.integrator.primitives(self.state)
         self.t += dt
         self.nstep += 1
         self.dt_last = dt
@@ -290,6 +317,11 @@ class Simulation:
         if self.varmap.mhd:
             out["b1"] = st.b1[m.js:m.je, m.is_:m.ie + 1].copy()
             out["b2"] = st.b2[m.js:m.je + 1, m.is_:m.ie].copy()
+        if self.modules:
+            # tallies of this rank; a parallel checkpoint sums them (GlobalView)
+            out["modules"] = {mod.name: {"tallies": {k: float(v) for k, v in mod.tallies.items()},
+                                         "state": mod.checkpoint_state()}
+                              for mod in self.modules}
         return out
 
     def restore_state(self, data: dict) -> None:
@@ -307,6 +339,12 @@ class Simulation:
         self.nstep = int(data["nstep"])
         self.dt_last = float(data["dt_last"])
         self.integrator.counters[:] = data["counters"]
+        saved_modules = data.get("modules", {})
+        for mod in self.modules:
+            entry = saved_modules.get(mod.name, {})
+            for k, v in entry.get("tallies", {}).items():
+                mod.tallies[k] = float(v)
+            mod.restore_checkpoint(entry.get("state", {}))
         saved = self.integrator.counters.copy()
         self.integrator.primitives(st)
         # recomputing the primitives of a saved state is not a new floor activation
@@ -331,6 +369,41 @@ class Simulation:
         a, b = self.mesh.axis_names
         out[a], out[b] = self.mesh.centres()
         return out
+
+    def derived_fields(self) -> dict[str, tuple[np.ndarray, str]]:
+        """Snapshot fields the physics modules derive: name -> (array [n2, n1], kind)."""
+        out: dict[str, tuple[np.ndarray, str]] = {}
+        for mod in self.modules:
+            for name, item in mod.derived_fields(self).items():
+                if name in out or name in self.varmap:
+                    raise ParameterError(f"physics.{mod.name}: derived field {name!r} "
+                                         "clashes with another field")
+                out[name] = item
+        return out
+
+    def module_history(self) -> dict[str, tuple[float, str]]:
+        """History columns of the physics modules (collective under MPI): their own
+        columns plus their tallies summed over ranks, as name -> (value, kind)."""
+        out: dict[str, tuple[float, str]] = {}
+        for mod in self.modules:
+            out.update(mod.history(self))
+            if mod.tallies:
+                keys = list(mod.tallies)
+                tot = self.global_sum(np.array([mod.tallies[k] for k in keys], dtype=np.float64))
+                for k, v in zip(keys, tot):
+                    out[k] = (float(v), mod.tally_kinds.get(k, "dimensionless"))
+        return out
+
+    def global_sum(self, value):
+        """Sum of a float or float array over the ranks (the value itself in serial).
+        Collective under MPI.  For diagnostics only: the order of the sum depends on
+        the rank count."""
+        if self.comm is None:
+            return value
+        arr = np.atleast_1d(np.asarray(value, dtype=np.float64))
+        tot = np.empty_like(arr)
+        self.comm.Allreduce(arr, tot)
+        return tot if np.ndim(value) else float(tot[0])
 
     def conserved(self) -> np.ndarray:
         """Interior conserved array ``[nvar, n2, n1]`` (a copy)."""

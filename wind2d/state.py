@@ -13,6 +13,7 @@ index  conserved ``U``                  primitive ``W``
 4      total energy E                   pressure p
 5-7    B1, B2, B3 (MHD runs only)       B1, B2, B3
 ...    rho * s for each passive scalar  s
+...    module variables (densities)     the same values
 =====  ===============================  ==========================
 
 ``B1`` and ``B2`` in the cell arrays are derived from the face fields
@@ -32,21 +33,39 @@ IB1, IB2, IB3 = 5, 6, 7
 
 
 class VariableMap:
-    """Names and integer indices of the cell variables of a run."""
+    """Names and integer indices of the cell variables of a run.
 
-    def __init__(self, geometry: str, mhd: bool, scalars: tuple[str, ...] = ()):
+    ``fields`` are the variables physics modules own
+    (:class:`wind2d.physics.Variable`-like objects with ``name``, ``kind`` and
+    ``component``); they follow the passive scalars, from index ``nadv`` on.
+    """
+
+    def __init__(self, geometry: str, mhd: bool, scalars: tuple[str, ...] = (),
+                 fields: tuple = ()):
         self.mhd = bool(mhd)
         self.nhydro = 8 if mhd else 5
         self.scalars = tuple(scalars)
         self.iscal = self.nhydro
-        self.nvar = self.nhydro + len(self.scalars)
+        self.nadv = self.nhydro + len(self.scalars)
+        self.fields = tuple(fields)
+        self.nvar = self.nadv + len(self.fields)
         c = ("R", "z", "phi") if geometry == "cylindrical" else ("x", "y", "z")
         names = ["rho", f"v{c[0]}", f"v{c[1]}", f"v{c[2]}", "p"]
         if mhd:
             names += [f"B{c[0]}", f"B{c[1]}", f"B{c[2]}"]
         names += list(self.scalars)
+        names += [f.name for f in self.fields]
+        dup = sorted({n for n in names if names.count(n) > 1})
+        if dup:
+            from .errors import ParameterError
+            raise ParameterError(f"variable name(s) used twice (gas, scalars or physics "
+                                 f"modules): {', '.join(dup)}")
         self.primitive_names = tuple(names)
         self.index = {n: k for k, n in enumerate(names)}
+
+    def components(self, k: int) -> list[int]:
+        """Indices of module variables that are component ``k`` (1, 2, 3) of a vector."""
+        return [self.nadv + n for n, f in enumerate(self.fields) if f.component == k]
 
     def __contains__(self, name: str) -> bool:
         return name in self.index

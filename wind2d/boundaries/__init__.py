@@ -87,11 +87,13 @@ class Boundaries:
             if kind == "fixed":
                 self.fixed_w[e] = state_vector(st)
         mhd = self.mhd
-        # variables that change sign in mirrored ghost cells
+        # variables that change sign in mirrored ghost cells (module vectors too)
+        c1, c2, c3 = (varmap.components(k) for k in (1, 2, 3))
         self.flips = {
-            "x1": np.array([IV1, IB1] if mhd else [IV1], dtype=np.int64),
-            "x2": np.array([IV2, IB2] if mhd else [IV2], dtype=np.int64),
-            "axis": np.array([IV1, IV3, IB1, IB3] if mhd else [IV1, IV3], dtype=np.int64),
+            "x1": np.array(([IV1, IB1] if mhd else [IV1]) + c1, dtype=np.int64),
+            "x2": np.array(([IV2, IB2] if mhd else [IV2]) + c2, dtype=np.int64),
+            "axis": np.array(([IV1, IV3, IB1, IB3] if mhd else [IV1, IV3]) + c1 + c3,
+                             dtype=np.int64),
         }
 
     def _side(self, W, bn, bt, axis, side, ng, lo, hi):

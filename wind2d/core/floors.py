@@ -19,9 +19,13 @@ COUNTER_NAMES = ("fallback_cells", "density_floor_cells", "pressure_floor_cells"
 
 
 @njit(cache=True, error_model="numpy")
-def cons_to_prim(U, W, b1, b2, area1, gamma, iso, cs2, mhd, nhydro, d_floor, p_floor,
+def cons_to_prim(U, W, b1, b2, area1, gamma, iso, cs2, mhd, nhydro, nadv, d_floor, p_floor,
                  counters, js, je, is_, ie):
-    """Primitives of the interior cells; floors applied to ``U`` and counted."""
+    """Primitives of the interior cells; floors applied to ``U`` and counted.
+
+    Variables ``nhydro <= v < nadv`` are passive scalars (``W = U / rho``); those
+    from ``nadv`` on belong to physics modules and are densities (``W = U``).
+    """
     nv = U.shape[0]
     gm1 = gamma - 1.0
     for j in range(u(js), u(je)):
@@ -51,7 +55,7 @@ def cons_to_prim(U, W, b1, b2, area1, gamma, iso, cs2, mhd, nhydro, d_floor, p_f
                 U[IM1, j, i] *= scale
                 U[IM2, j, i] *= scale
                 U[IM3, j, i] *= scale
-                for v in range(nhydro, nv):
+                for v in range(nhydro, nadv):
                     U[v, j, i] *= scale
                 U[IDN, j, i] = d_floor
                 if not iso:
@@ -76,13 +80,16 @@ def cons_to_prim(U, W, b1, b2, area1, gamma, iso, cs2, mhd, nhydro, d_floor, p_f
                     U[IEN, j, i] = p / gm1 + ek + emag
                     counters[PRESSURE_FLOOR] += 1
                 W[IPR, j, i] = p
-            for v in range(nhydro, nv):
+            for v in range(nhydro, nadv):
                 W[v, j, i] = U[v, j, i] * rd
+            for v in range(nadv, nv):
+                W[v, j, i] = U[v, j, i]
 
 
 @njit(cache=True, error_model="numpy")
-def prim_to_cons(W, U, gamma, iso, mhd, nhydro, js, je, is_, ie):
-    """Conserved variables from primitives (cell-centred field taken from ``W``)."""
+def prim_to_cons(W, U, gamma, iso, mhd, nhydro, nadv, js, je, is_, ie):
+    """Conserved variables from primitives (cell-centred field taken from ``W``);
+    scalars ``nhydro <= v < nadv`` per unit mass, module variables as they are."""
     nv = W.shape[0]
     for j in range(js, je):
         for i in range(is_, ie):
@@ -104,12 +111,14 @@ def prim_to_cons(W, U, gamma, iso, mhd, nhydro, js, je, is_, ie):
             else:
                 U[IEN, j, i] = (W[IPR, j, i] / (gamma - 1.0)
                                 + 0.5 * d * (v1 * v1 + v2 * v2 + v3 * v3) + emag)
-            for v in range(nhydro, nv):
+            for v in range(nhydro, nadv):
                 U[v, j, i] = d * W[v, j, i]
+            for v in range(nadv, nv):
+                U[v, j, i] = W[v, j, i]
 
 
 @njit(cache=True, error_model="numpy")
-def _first_order_flux(W, b, F, dirn, j, i, gamma, iso, cs2, mhd, nhydro):
+def _first_order_flux(W, b, F, dirn, j, i, gamma, iso, cs2, mhd, nhydro, nadv):
     # HLLE flux between the cell values either side of face (j, i) of direction dirn
     if dirn == 1:
         jl, il = j, i - 1
@@ -135,7 +144,7 @@ def _first_order_flux(W, b, F, dirn, j, i, gamma, iso, cs2, mhd, nhydro):
     F[IPR, j, i] = f[4]
     if mhd:
         F[IB3, j, i] = f[6]
-    for v in range(nhydro, W.shape[0]):
+    for v in range(nhydro, nadv):        # module variables keep their own fluxes
         F[v, j, i] = f[0] * (W[v, jl, il] if f[0] >= 0.0 else W[v, j, i])
 
 
@@ -163,17 +172,17 @@ def find_bad_cells(U, b1, b2, area1, gamma, iso, mhd, flags, js, je, is_, ie):
 
 
 @njit(cache=True, error_model="numpy")
-def first_order_faces(W, b1, b2, F1, F2, flags, gamma, iso, cs2, mhd, nhydro,
+def first_order_faces(W, b1, b2, F1, F2, flags, gamma, iso, cs2, mhd, nhydro, nadv,
                       js, je, is_, ie):
     """Replace the fluxes on every face of a flagged cell by first-order HLLE fluxes
     and flag the neighbours that share those faces (they must be recomputed)."""
     for j in range(js, je):
         for i in range(is_, ie):
             if flags[j, i] == 1:
-                _first_order_flux(W, b1, F1, 1, j, i, gamma, iso, cs2, mhd, nhydro)
-                _first_order_flux(W, b1, F1, 1, j, i + 1, gamma, iso, cs2, mhd, nhydro)
-                _first_order_flux(W, b2, F2, 2, j, i, gamma, iso, cs2, mhd, nhydro)
-                _first_order_flux(W, b2, F2, 2, j + 1, i, gamma, iso, cs2, mhd, nhydro)
+                _first_order_flux(W, b1, F1, 1, j, i, gamma, iso, cs2, mhd, nhydro, nadv)
+                _first_order_flux(W, b1, F1, 1, j, i + 1, gamma, iso, cs2, mhd, nhydro, nadv)
+                _first_order_flux(W, b2, F2, 2, j, i, gamma, iso, cs2, mhd, nhydro, nadv)
+                _first_order_flux(W, b2, F2, 2, j + 1, i, gamma, iso, cs2, mhd, nhydro, nadv)
     for j in range(js, je):
         for i in range(is_, ie):
             if flags[j, i] == 1:

@@ -8,6 +8,10 @@ follow the same two stages with corner electric fields (``ct``).  After the
 second stage, cells with non-positive density or pressure are recomputed
 with first-order HLLE fluxes on their faces (``floors``).  All work arrays
 are allocated once here; a step allocates no full-grid temporaries.
+
+Physics modules (``self.modules``, set by the Simulation; the core knows only
+their hooks) act inside each stage: ``add_fluxes`` after the core fluxes,
+``stage_source`` after the cell update (see wind2d/physics/base.py).
 """
 from __future__ import annotations
 
@@ -51,6 +55,8 @@ class Integrator:
         self.gas = (eos.gamma, eos.isothermal, eos.cs2)
         self.zero_emf = np.array([boundaries.edges[e][0] in ("axis", "reflecting")
                                   for e in ("x1_lo", "x1_hi", "x2_lo", "x2_hi")])
+        self.modules = []           # physics modules, in acting order
+        self.owner = None           # the Simulation handed to module hooks
 
     def _mirrored_centres(self, xf, xc, axis):
         # Ghost centres behind a wall are the mirror images of the interior ones, so
@@ -72,11 +78,11 @@ class Integrator:
         m, vm = self.mesh, self.varmap
         g, iso, cs2 = self.gas
         floors.cons_to_prim(st.U, self.W, st.b1, st.b2, m.area1, g, iso, cs2, self.mhd,
-                            vm.nhydro, self.d_floor, self.p_floor, self.counters,
+                            vm.nhydro, vm.nadv, self.d_floor, self.p_floor, self.counters,
                             m.js, m.je, m.is_, m.ie)
         self.bc.apply(self.W, st.b1, st.b2)
 
-    def _fluxes(self, b1, b2, limiter: int) -> None:
+    def _fluxes(self, b1, b2, limiter: int, stage: int) -> None:
         g, iso, cs2 = self.gas
         vm, r = self.varmap, self.rows
         nscal = len(vm.scalars)
@@ -84,6 +90,12 @@ class Integrator:
                nscal, vm.iscal, *self.r1, r[0], r[1], self.frow)
         sweep2(self.W, b2, self.F2, self.g2, limiter, self.solver, g, iso, cs2, self.mhd,
                nscal, vm.iscal, *self.r2, r[0], r[1], r[2], self.frow)
+        for mod in self.modules:
+            mod.add_fluxes(self.owner, self.W, b1, b2, self.F1, self.F2, stage)
+
+    def _sources(self, out: State, dt: float, stage: int) -> None:
+        for mod in self.modules:
+            mod.stage_source(self.owner, self.W, out.U, self.F1, self.F2, dt, stage)
 
     def _faces(self, st: State, out: State, dt: float) -> None:
         m = self.mesh
@@ -106,7 +118,7 @@ class Integrator:
         if nbad == 0:
             return
         floors.first_order_faces(self.W, out.b1, out.b2, self.F1, self.F2, self.flags, g, iso,
-                                 cs2, self.mhd, self.varmap.nhydro, m.js, m.je, m.is_, m.ie)
+                                 cs2, self.mhd, self.varmap.nhydro, self.varmap.nadv, m.js, m.je, m.is_, m.ie)
         update_flagged(st.U, out.U, self.W, self.F1, self.F2, dt, m.area1, m.h1f, m.h1c,
                        m.vol1, m.geo1, m.dx1, m.dx2, m.cylindrical, self.mhd, iso,
                        self.flags, m.js, m.je, m.is_, m.ie)
@@ -137,16 +149,18 @@ class Integrator:
     def step(self, st: State, dt: float) -> None:
         """Advance ``st`` by ``dt``; on entry ``self.W`` holds its primitives."""
         h = self.half
-        self._fluxes(st.b1, st.b2, 0)
+        self._fluxes(st.b1, st.b2, 0, 0)
         if self.mhd:
             self._faces(st, h, 0.5 * dt)
         self._cells(st, h, 0.5 * dt)
+        self._sources(h, 0.5 * dt, 0)
         self.primitives(h)
-        self._fluxes(h.b1, h.b2, self.limiter)
+        self._fluxes(h.b1, h.b2, self.limiter, 1)
         if self.mhd:
             self._faces(st, h, dt)
         self._cells(st, h, dt)
         self._fallback(st, h, dt)
+        self._sources(h, dt, 1)
         st.U, h.U = h.U, st.U
         st.b1, h.b1 = h.b1, st.b1
         st.b2, h.b2 = h.b2, st.b2

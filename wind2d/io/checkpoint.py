@@ -125,7 +125,7 @@ def write_checkpoint(path, sim, extra: dict) -> Path:
                                       f"array {k!r} holds non-finite values")
     meta = {"format": FORMAT_NAME, "format_version": FORMAT_VERSION,
             "t": float(st["t"]), "nstep": int(st["nstep"]), "dt_last": float(st["dt_last"]),
-            "layout": _layout(sim), "extra": extra}
+            "layout": _layout(sim), "extra": extra, "modules": st.get("modules", {})}
     try:
         meta_json = json.dumps(meta, sort_keys=True)
     except (TypeError, ValueError) as exc:
@@ -170,7 +170,8 @@ def _read(path: Path) -> dict:
                               "altered); it cannot be used for a restart")
     meta = json.loads(meta_json)
     state = {"U": arrays["U"], "counters": arrays["counters"], "t": float(meta["t"]),
-             "nstep": int(meta["nstep"]), "dt_last": float(meta["dt_last"])}
+             "nstep": int(meta["nstep"]), "dt_last": float(meta["dt_last"]),
+             "modules": meta.get("modules", {})}
     for k in ("b1", "b2"):
         if k in arrays:
             state[k] = arrays[k]

@@ -44,6 +44,9 @@ def field_kind(name: str, varmap) -> str:
         return "pressure"
     if name in varmap.scalars:
         return "dimensionless"
+    for f in getattr(varmap, "fields", ()):
+        if f.name == name:
+            return f.kind
     if name.startswith("v"):
         return "velocity"
     if name.startswith("B"):
@@ -76,7 +79,9 @@ def snapshot_fields(sim, extra_fields=None) -> dict[str, tuple[np.ndarray, str]]
         out["magnetic_pressure"] = (pmag, "pressure")
         out["plasma_beta"] = (beta, "dimensionless")
     m = sim.mesh
-    for name, item in (extra_fields or {}).items():
+    derived = getattr(sim, "derived_fields", None)
+    extra_fields = {**(derived() if derived is not None else {}), **(extra_fields or {})}
+    for name, item in extra_fields.items():
         try:
             arr, kind = item
         except (TypeError, ValueError):

@@ -58,6 +58,13 @@ class GlobalView:
             g["b2"] = _gather(sim, st["b2"], (gm.n2 + 1, gm.n1))
         tot = np.empty_like(st["counters"])
         sim.comm.Allreduce(st["counters"].copy(), tot)
+        if "modules" in st:
+            # module tallies are running totals of each rank: the checkpoint holds their sum
+            for entry in st["modules"].values():
+                keys = list(entry["tallies"])
+                sums = sim.global_sum(np.array([entry["tallies"][k] for k in keys]))
+                entry["tallies"] = {k: float(v) for k, v in zip(keys, sums)}
+            g["modules"] = st["modules"]
         if self.root:
             g.update(t=st["t"], nstep=st["nstep"], dt_last=st["dt_last"], counters=tot)
             self._state = g
@@ -86,6 +93,12 @@ def restore_tile(sim, data: dict) -> None:
         local = {"U": np.ascontiguousarray(state["U"][:, j0:j1, i0:i1]), "t": state["t"],
                  "nstep": state["nstep"], "dt_last": state["dt_last"],
                  "counters": state["counters"] if rank0 else np.zeros_like(state["counters"])}
+        if "modules" in state:
+            # tallies go to rank 0, so that their sum over ranks is the saved total
+            local["modules"] = {name: {"tallies": {k: (v if rank0 else 0.0)
+                                                   for k, v in e.get("tallies", {}).items()},
+                                       "state": e.get("state", {})}
+                                for name, e in state["modules"].items()}
         if "b1" in state:
             local["b1"] = np.ascontiguousarray(state["b1"][j0:j1, i0:i1 + 1])
             local["b2"] = np.ascontiguousarray(state["b2"][j0:j1 + 1, i0:i1])

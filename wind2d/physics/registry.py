@@ -12,6 +12,7 @@ from __future__ import annotations
 
 import hashlib
 import importlib.util
+import sys
 from pathlib import Path
 
 from ..errors import ParameterError
@@ -31,8 +32,7 @@ def register(name: str):
         if not (isinstance(cls, type) and issubclass(cls, Module)):
             raise TypeError(f"@register({name!r}): {cls!r} is not a wind2d.physics.Module")
         old = MODULES.get(name)
-        if old is not None and old is not cls and \
-                (old.__module__, old.__qualname__) != (cls.__module__, cls.__qualname__):
+        if old is not None and old is not cls and not _same_code(old, cls):
             raise ValueError(f"physics module {name!r} is registered twice "
                              f"({old.__module__}.{old.__qualname__} and "
                              f"{cls.__module__}.{cls.__qualname__})")
@@ -40,6 +40,20 @@ def register(name: str):
         MODULES[name] = cls
         return cls
     return deco
+
+
+def _same_code(a: type, b: type) -> bool:
+    """Two class objects made from the same source (a file both installed and named
+    in ``load_modules``, or imported twice)."""
+    import inspect
+    if a.__qualname__ != b.__qualname__:
+        return False
+    if a.__module__ == b.__module__:
+        return True
+    try:
+        return Path(inspect.getfile(a)).resolve() == Path(inspect.getfile(b)).resolve()
+    except (TypeError, OSError):
+        return False
 
 
 def load_entry_points() -> None:
@@ -69,9 +83,11 @@ def load_file(path, where: str = "load_modules") -> list[str]:
     tag = hashlib.sha1(str(path.resolve()).encode()).hexdigest()[:10]
     spec = importlib.util.spec_from_file_location(f"wind2d_local_{path.stem}_{tag}", path)
     mod = importlib.util.module_from_spec(spec)
+    sys.modules[spec.name] = mod          # so that pickling and inspect find it
     try:
         spec.loader.exec_module(mod)
     except Exception as exc:
+        sys.modules.pop(spec.name, None)
         raise ParameterError(f"{where}: {path} failed to import: {type(exc).__name__}: "
                              f"{exc}") from None
     new = [n for n, c in MODULES.items() if before.get(n) is not c]

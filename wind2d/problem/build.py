@@ -1,6 +1,8 @@
 """Turn a validated problem into a ready :class:`~wind2d.simulation.Simulation`."""
 from __future__ import annotations
 
+from types import SimpleNamespace
+
 from ..core.eos import IdealGas, Isothermal
 from ..errors import NonFiniteStateError, ParameterError
 from .load import ProblemError, Resolved
@@ -17,7 +19,8 @@ _FILE_NAMES = (("boundaries", "edges"), ("riemann = ", "scheme.riemann = "),
 
 def _file_message(msg: str, axis_names) -> str:
     """A core message with the key path of the problem file."""
-    if msg.startswith(("grid", "edges", "gas", "scheme", "setup", "stop", "outputs", "units")):
+    if msg.startswith(("grid", "edges", "gas", "scheme", "setup", "stop", "outputs", "units",
+                       "physics", "load_modules")):
         return msg
     for core, key in _FILE_NAMES:
         if msg.startswith(core):
@@ -55,7 +58,11 @@ def build_simulation(res: Resolved, comm="auto"):
     try:
         eos = IdealGas(p.gas.gamma) if p.gas.eos == "ideal" else Isothermal(p.gas.sound_speed)
         from ..state import VariableMap
-        vm = VariableMap(g.geometry, p.gas.magnetised, tuple(p.gas.scalars))
+        mctx = SimpleNamespace(units=res.units, geometry=g.geometry, axis_names=names,
+                               gas=p.gas, source=res.source, problem=p)
+        modules = [cls(params, mctx) for cls, params in (res.modules or [])]
+        vm = VariableMap(g.geometry, p.gas.magnetised, tuple(p.gas.scalars),
+                         tuple(v for mod in modules for v in mod.variables))
         ctx = SetupContext(res.units, g.geometry, vm.primitive_names, names)
         if g.geometry == "cylindrical":
             for k in ("R_low", "R_high"):
@@ -79,8 +86,10 @@ def build_simulation(res: Resolved, comm="auto"):
                          reconstruction=p.scheme.reconstruction, limiter=p.scheme.limiter,
                          courant=p.scheme.courant, density_floor=p.gas.floors.density,
                          pressure_floor=p.gas.floors.pressure, scalars=tuple(p.gas.scalars),
-                         comm=comm)
+                         modules=modules, comm=comm)
         get(p.setup.kind)().apply(sim, res.setup_params, ctx)
+        for mod in sim.modules:
+            mod.initialise(sim)
         try:
             sim.integrator.max_dt()          # finite, positive density and pressure
         except NonFiniteStateError as exc:

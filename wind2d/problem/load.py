@@ -283,6 +283,7 @@ class Resolved:
     text: str
     source: str
     raw: dict
+    modules: list = None        # [(module class, validated params)] in file order
 
 
 def resolve(data: dict, source: str) -> Resolved:
@@ -319,8 +320,44 @@ def resolve(data: dict, source: str) -> Resolved:
     except ValidationError as exc:
         raise ProblemError(source, describe_errors(exc, cls.Params, "setup.",
                                                    params_raw)) from None
+    data, modules = _resolve_modules(data, problem, units, source)
     text = yaml.safe_dump(data, sort_keys=False)
-    return Resolved(problem, params, units, text, source, data)
+    return Resolved(problem, params, units, text, source, data, modules)
+
+
+def _resolve_modules(data: dict, problem: Problem, units, source: str):
+    """Load ``load_modules`` files and validate each ``physics`` section.
+
+    Module files are named relative to the problem file; the resolved text
+    records absolute paths, so a run directory resumes from anywhere.
+    """
+    from .. import physics
+    base = Path(source).parent if Path(source).is_file() else Path(".")
+    paths = []
+    for k, name in enumerate(problem.load_modules):
+        path = (base / name).resolve()
+        try:
+            physics.load_file(path, f"load_modules[{k}]")
+        except ParameterError as exc:
+            raise ProblemError(source, [str(exc)]) from None
+        paths.append(str(path))
+    if paths:
+        data = {**data, "load_modules": paths}
+    modules, errors = [], []
+    for name, raw in problem.physics.items():
+        try:
+            cls = physics.get(name)
+        except ParameterError as exc:
+            errors.append(str(exc))
+            continue
+        raw = raw or {}
+        try:
+            modules.append((cls, cls.Params.model_validate(raw, context={"units": units})))
+        except ValidationError as exc:
+            errors.extend(describe_errors(exc, cls.Params, f"physics.{name}.", raw))
+    if errors:
+        raise ProblemError(source, errors)
+    return data, modules
 
 
 def load(path, overrides: list[str] | None = None) -> Resolved:

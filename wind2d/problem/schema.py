@@ -283,6 +283,12 @@ class Problem(Strict):
     setup: SetupSpec
     stop: StopSpec
     outputs: OutputsSpec = Field(default_factory=OutputsSpec)
+    physics: dict[str, Optional[dict[str, Any]]] = Field(
+        default_factory=dict, description="physics modules by name, each with its parameters "
+        "(see the physics modules section); they act in a fixed order (docs/plugins.md)")
+    load_modules: list[str] = Field(
+        default_factory=list, description="Python files (paths relative to this problem file) "
+        "that register extra physics modules")
 
     @field_validator("edges")
     @classmethod

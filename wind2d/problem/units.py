@@ -41,6 +41,12 @@ KINDS = {
     "temperature": ("K", None),
     "diffusivity": ("cm2 s-1", (2, -1, 0)),
     "rate": ("s-1", (0, -1, 0)),
+    "power": ("erg s-1", (2, -3, 1)),
+    "power_density": ("erg cm-3 s-1", (-1, -3, 1)),
+    "energy_flux": ("erg cm-2 s-1", (0, -3, 1)),
+    "mass_rate": ("g s-1", (0, -1, 1)),
+    "acceleration": ("cm s-2", (1, -2, 0)),
+    "specific_energy": ("erg g-1", (2, -2, 0)),
 }
 
 
@@ -110,6 +116,19 @@ class UnitSystem:
         """Newton's constant in code units."""
         L, T, M = self.base_cgs
         return G_CGS * M * T ** 2 / L ** 3
+
+    def code_unit(self, kind: str) -> str:
+        """The code unit of ``kind`` as an astropy unit string (e.g.
+        ``"Msun kpc2 Myr-2"`` for energy); CGS for field and temperature, whose
+        code units have no such name."""
+        powers = KINDS[kind][1]
+        if powers is None:
+            return KINDS[kind][0]
+        parts = []
+        for base, p in zip((self.length, self.time, self.mass), powers):
+            if p:
+                parts.append(base if p == 1 else f"{base}{p}")
+        return " ".join(parts)
 
     def cgs_unit(self, kind: str) -> str:
         return KINDS[kind][0]
