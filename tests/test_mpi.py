@@ -105,6 +105,10 @@ def test_state_is_bitwise_identical_on_any_rank_count(serial_runs, tmp_path, cas
             assert a.time == b.time
             for k in a.fields:
                 assert np.array_equal(a.fields[k], b.fields[k]), (snap.name, k)
+            assert set(a.faces) == set(b.faces)
+            assert bool(a.faces) == ("Bz" in a.fields or "By" in a.fields)
+            for k in a.faces:           # face fields: virtual over tiles, no gaps
+                assert np.array_equal(a.faces[k], b.faces[k]), (snap.name, k)
         # every rank wrote its own tile; the global file holds virtual datasets over them
         import h5py
         last = sorted((tmp_path / "run" / "snapshots").glob("snapshot_*.h5"))[-1]

@@ -48,6 +48,7 @@ class Snapshot:
     options: dict
     provenance: dict
     attrs: dict = _field(default_factory=dict)
+    faces: dict = _field(default_factory=dict)
     physical: bool = False
     _code: dict = _field(default_factory=dict, repr=False)
 
@@ -100,6 +101,8 @@ def read_snapshot(path, physical: bool = False) -> Snapshot:
             units[name] = attr_str(ds, "unit")
             to_cgs[name] = float(ds.attrs["to_cgs"])
             kinds[name] = attr_str(ds, "kind")
+        # face-centred poloidal field (MHD runs): [n2, n1+1] and [n2+1, n1], code units
+        faces = {name: ds[()] for name, ds in f["faces"].items()} if "faces" in f else {}
         counters = {k: int(v) for k, v in f["counters"].attrs.items()}
         options = read_record(f["options"]) if "options" in f else {}
         prov = read_record(f["provenance"]) if "provenance" in f else {}
@@ -115,7 +118,7 @@ def read_snapshot(path, physical: bool = False) -> Snapshot:
         code_units={"length": attrs.get("code_length"), "time": attrs.get("code_time"),
                     "mass": attrs.get("code_mass"), "mu": attrs.get("mu")},
         time_to_cgs=float(attrs["time_to_cgs"]), length_to_cgs=lcgs, counters=counters,
-        options=options, provenance=prov, attrs=attrs, _code=fields)
+        options=options, provenance=prov, attrs=attrs, faces=faces, _code=fields)
     if physical:
         snap.fields = {n: snap.field(n, physical=True) for n in fields}
         snap.physical = True

@@ -135,7 +135,39 @@ def write_tile(path, sim, units,
             g = f.create_group("fields", track_order=True)
             for name, (arr, _kind) in fields.items():
                 g.create_dataset(name, data=arr)
+            if sim.varmap.mhd:
+                # faces shared with the next tile belong to that tile (no overlap)
+                m = sim.mesh
+                i0, i1, j0, j1 = m.window
+                n1g, n2g = m.global_cells
+                e1 = 1 if i1 == n1g else 0
+                e2 = 1 if j1 == n2g else 0
+                st = sim.state
+                g = f.create_group("faces")
+                g.create_dataset("b1", data=st.b1[m.js:m.je, m.is_:m.ie + e1])
+                g.create_dataset("b2", data=st.b2[m.js:m.je + e2, m.is_:m.ie])
     return {name: kind for name, (_arr, kind) in fields.items()}
+
+
+def _face_fields(sim, tiles):
+    """The face-centred poloidal field ``{name: (array or virtual layout, axis)}``."""
+    m = sim.mesh
+    a1, a2 = m.axis_names
+    shapes = {"b1": (m.n2, m.n1 + 1), "b2": (m.n2 + 1, m.n1)}
+    if tiles is None:
+        st = sim.state
+        return {f"B{a1}": (st.b1[m.js:m.je, m.is_:m.ie + 1].copy(), 1),
+                f"B{a2}": (st.b2[m.js:m.je + 1, m.is_:m.ie].copy(), 2)}
+    out = {}
+    for key, name, axis in (("b1", f"B{a1}", 1), ("b2", f"B{a2}", 2)):
+        lay = h5py.VirtualLayout(shape=shapes[key], dtype="f8")
+        for rel, (i0, i1, j0, j1) in tiles:
+            e1 = 1 if (key == "b1" and i1 == m.n1) else 0
+            e2 = 1 if (key == "b2" and j1 == m.n2) else 0
+            lay[j0:j1 + e2, i0:i1 + e1] = h5py.VirtualSource(
+                str(rel), f"faces/{key}", shape=(j1 - j0 + e2, i1 - i0 + e1))
+        out[name] = (lay, axis)
+    return out
 
 
 def write_snapshot(path, sim, units, provenance: dict,
@@ -226,6 +258,19 @@ def write_snapshot(path, sim, units, provenance: dict,
                 ds.attrs["centring"] = "cell"
             if "plasma_beta" in g:
                 g["plasma_beta"].attrs["note"] = "p / (B^2/2); +inf where B = 0"
+
+            if sim.varmap.mhd:
+                # the evolved poloidal field on the faces (exact flux function, field lines)
+                g = f.create_group("faces")
+                for name, (arr, axis) in _face_fields(sim, tiles).items():
+                    if tiles is None:
+                        ds = g.create_dataset(name, data=arr)
+                    else:
+                        ds = g.create_virtual_dataset(name, arr, fillvalue=np.nan)
+                    ds.attrs["unit"] = units.cgs_unit("magnetic_field")
+                    ds.attrs["to_cgs"] = float(units.to_cgs("magnetic_field"))
+                    ds.attrs["kind"] = "magnetic_field"
+                    ds.attrs["centring"] = f"faces normal to axis {axis}"
 
             g = f.create_group("counters")
             for k, v in sim.counters.items():
