@@ -319,7 +319,8 @@ class Simulation:
             out["b2"] = st.b2[m.js:m.je + 1, m.is_:m.ie].copy()
         if self.modules:
             # tallies of this rank; a parallel checkpoint sums them (GlobalView)
-            out["modules"] = {mod.name: {"tallies": {k: float(v) for k, v in mod.tallies.items()},
+            out["modules"] = {mod.name: {"tallies": {k: float(v)
+                                                     for k, v in mod.tallies.items()},
                                          "state": mod.checkpoint_state()}
                               for mod in self.modules}
         return out

@@ -118,7 +118,8 @@ class Integrator:
         if nbad == 0:
             return
         floors.first_order_faces(self.W, out.b1, out.b2, self.F1, self.F2, self.flags, g, iso,
-                                 cs2, self.mhd, self.varmap.nhydro, self.varmap.nadv, m.js, m.je, m.is_, m.ie)
+                                 cs2, self.mhd, self.varmap.nhydro, self.varmap.nadv,
+                                 m.js, m.je, m.is_, m.ie)
         update_flagged(st.U, out.U, self.W, self.F1, self.F2, dt, m.area1, m.h1f, m.h1c,
                        m.vol1, m.geo1, m.dx1, m.dx2, m.cylindrical, self.mhd, iso,
                        self.flags, m.js, m.je, m.is_, m.ie)
