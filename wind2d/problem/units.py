@@ -45,6 +45,7 @@ KINDS = {
     "power_density": ("erg cm-3 s-1", (-1, -3, 1)),
     "energy_flux": ("erg cm-2 s-1", (0, -3, 1)),
     "mass_rate": ("g s-1", (0, -1, 1)),
+    "momentum_rate": ("g cm s-2", (1, -2, 1)),
     "acceleration": ("cm s-2", (1, -2, 0)),
     "specific_energy": ("erg g-1", (2, -2, 0)),
 }
