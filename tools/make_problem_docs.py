@@ -269,6 +269,39 @@ def sections(root: type[BaseModel]) -> list[tuple[list[str], type[BaseModel]]]:
     return [(paths[m], m) for m in order]
 
 
+def _member_models(tp) -> list[type[BaseModel]]:
+    """Every section model inside a field type: through Optional, unions (e.g. a
+    list of `{kind: ...}` alternatives), lists and Annotated layers."""
+    origin = typing.get_origin(tp)
+    if _is_model(tp):
+        return [tp]
+    out: list[type[BaseModel]] = []
+    if origin is not None:
+        for arg in typing.get_args(tp):
+            if isinstance(arg, type) or typing.get_origin(arg) is not None:
+                out += _member_models(arg)
+    return out
+
+
+def module_sections(root: type[BaseModel], prefix: str):
+    """(key path, model) of every section reachable from a module's Params,
+    union members included, breadth first, each model once."""
+    seen: set = {root}
+    out = []
+    queue = [(prefix, root)]
+    while queue:
+        pre, model = queue.pop(0)
+        for name, f in model.model_fields.items():
+            for sub in _member_models(f.annotation):
+                if sub in seen:
+                    continue
+                seen.add(sub)
+                path = f"{pre}.{key_name(name, f)}"
+                out.append((path, sub))
+                queue.append((path, sub))
+    return out
+
+
 # ------------------------------------------------------------------ the document
 def render() -> str:
     from wind2d.boundaries import KINDS, edge_names
@@ -336,9 +369,14 @@ def render() -> str:
         if doc:
             out += [doc, ""]
         out += table(cls.Params) + [""]
-        for paths, model in sections(cls.Params):
-            title = ", ".join(f"`physics.{name}.{p}`" for p in paths)
-            out += [f"#### {title}", ""]
+        for path, model in module_sections(cls.Params, f"physics.{name}"):
+            tag = ""
+            for fname, f in model.model_fields.items():      # the discriminating key
+                tp, _, _ = _unwrap(f.annotation)
+                if typing.get_origin(tp) is typing.Literal and len(typing.get_args(tp)) == 1:
+                    tag = f" ({key_name(fname, f)}: {typing.get_args(tp)[0]})"
+                    break
+            out += [f"#### `{path}`{tag}", ""]
             if _doc(model):
                 out += [_doc(model), ""]
             out += table(model) + [""]

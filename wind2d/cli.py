@@ -25,6 +25,32 @@ def _walltime(text):
         raise argparse.ArgumentTypeError(str(exc)) from None
 
 
+def _add_picture_args(p) -> None:
+    """Options shared by ``plot`` and ``movie`` (wind2d.viz)."""
+    p.add_argument("--field", dest="fields", action="append", required=True, metavar="NAME",
+                   help="snapshot field, e.g. rho, temperature, p, vz, Bz, plasma_beta "
+                   "(repeatable: panels side by side)")
+    scale = p.add_mutually_exclusive_group()
+    scale.add_argument("--log", dest="log", action="store_const", const=True, default=None,
+                       help="log colour scale for every field (default: log where a "
+                       "positive field spans more than two decades)")
+    scale.add_argument("--linear", dest="log", action="store_const", const=False,
+                       help="never a log scale")
+    p.add_argument("--vmin", type=float, action="append", help="lower colour limit in the "
+                   "units of the colour bar (once for all fields, or once per --field)")
+    p.add_argument("--vmax", type=float, action="append", help="upper colour limit")
+    p.add_argument("--arrows", action="store_true", help="velocity arrows")
+    p.add_argument("--fieldlines", action="store_true", help="magnetic field lines "
+                   "(contours of the poloidal flux function)")
+    p.add_argument("--length-unit", dest="length", choices=("Mpc", "kpc", "pc", "au", "km",
+                                                            "cm"),
+                   help="axis unit (default: chosen from the domain size)")
+    p.add_argument("--units", choices=("friendly", "cgs"), default="friendly",
+                   help="colour-bar units: friendly (n in cm^-3, km/s, uG, K) or cgs")
+    p.add_argument("--no-mirror", dest="mirror", action="store_const", const=False,
+                   default=None, help="show only R >= 0 (default: mirror across the axis)")
+
+
 def parser() -> argparse.ArgumentParser:
     ap = argparse.ArgumentParser(prog="wind2d", description="Axisymmetric (R, z) MHD runs "
                                  "for galactic-wind studies.", epilog=EPILOG)
@@ -59,11 +85,25 @@ def parser() -> argparse.ArgumentParser:
     i = sub.add_parser("info", help="what a run is, how far it got, its outputs")
     i.add_argument("run_dir", type=Path)
 
-    p = sub.add_parser("plot", help="PNG slice of one field of a snapshot")
+    p = sub.add_parser("plot", help="PNG slice plot of snapshot fields (side by side)")
     p.add_argument("snapshot", type=Path)
-    p.add_argument("--field", required=True, help="field name, e.g. rho, T, p, vz, Bz")
-    p.add_argument("--output", type=Path, help="PNG file (default next to the snapshot)")
-    p.add_argument("--linear", action="store_true", help="never use a log scale")
+    p.add_argument("--out", "--output", dest="output", type=Path,
+                   help="PNG file (default next to the snapshot)")
+    _add_picture_args(p)
+
+    mv = sub.add_parser("movie", help="MP4 (or GIF) of the snapshots of a run")
+    mv.add_argument("run_dir", type=Path, help="run directory (or a folder of snapshots)")
+    mv.add_argument("--out", "--output", dest="output", type=Path,
+                    help="movie file, .mp4 or .gif (default RUN_DIR/movie_<fields>.mp4)")
+    mv.add_argument("--gif", action="store_true", help="write a GIF (Pillow) instead of MP4")
+    mv.add_argument("--fps", type=float, default=8.0, help="frames per second (default 8)")
+    mv.add_argument("--dpi", type=int, default=100, help="pixels per inch of the frames "
+                    "(default 100)")
+    mv.add_argument("--quiet", action="store_true", help="no progress bar")
+    _add_picture_args(mv)
+
+    from .analysis.commands import add_parsers      # summary, compare, profile
+    add_parsers(sub)
     return ap
 
 
@@ -123,11 +163,34 @@ def cmd_info(args) -> int:
     return 0
 
 
+def _picture_kwargs(args) -> dict:
+    from .errors import ParameterError
+    kw = {"log": args.log, "arrows": args.arrows, "fieldlines": args.fieldlines,
+          "mirror": args.mirror, "length": args.length, "units": args.units}
+    for key in ("vmin", "vmax"):
+        vals = getattr(args, key)
+        if vals is None:
+            continue
+        if len(vals) == 1:
+            kw[key] = vals[0]
+        elif len(vals) == len(args.fields):
+            kw[key] = dict(zip(args.fields, vals))
+        else:
+            raise ParameterError(f"--{key}: give it once (all fields) or once per --field "
+                                 f"({len(args.fields)}), not {len(vals)} times")
+    return kw
+
+
 def cmd_plot(args) -> int:
-    from .viz.slice import plot_snapshot
-    out = plot_snapshot(args.snapshot, args.field, args.output, log=None if not args.linear
-                        else False)
-    print(out)
+    from .viz.slice import plot_slices
+    print(plot_slices(args.snapshot, args.fields, args.output, **_picture_kwargs(args)))
+    return 0
+
+
+def cmd_movie(args) -> int:
+    from .viz.movie import make_movie
+    print(make_movie(args.run_dir, args.fields, args.output, gif=args.gif, fps=args.fps,
+                     dpi=args.dpi, progress=not args.quiet, **_picture_kwargs(args)))
     return 0
 
 
@@ -150,6 +213,11 @@ def main(argv=None) -> int:
             return cmd_info(args)
         if args.command == "plot":
             return cmd_plot(args)
+        if args.command == "movie":
+            return cmd_movie(args)
+        if args.command in ("summary", "compare", "profile"):
+            from .analysis.commands import run_command
+            return run_command(args)
     except (ProblemError, ParameterError) as exc:
         # every rank validates the same input, so all of them stop here; one prints
         if rank() == 0:

@@ -1,1 +1,1 @@
-"""Pictures: slice plots (and, later, movies)."""
+"""Pictures: slice plots (slice.py) and movies (movie.py) of snapshots."""
