@@ -1,4 +1,4 @@
-"""The ``wind2d`` command: run, resume, check, info, plot.
+"""The ``wind2d`` command: run, resume, check, info, plot, movie, summary, compare, profile.
 
 Invalid input (problem file, overrides, run directory) prints one clear
 message and exits with status 2, never a traceback.
