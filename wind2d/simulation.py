@@ -229,6 +229,13 @@ class Simulation:
             st.b1[:, is_] = 0.0
         self._sync()
 
+    def initialise_modules(self) -> None:
+        """Let every physics module set up from the initial state (its own variables,
+        a held region's captured state ...).  Call once after the initial state is
+        set; :func:`wind2d.problem.build_simulation` does it after the setup."""
+        for mod in self.modules:
+            mod.initialise(self)
+
     def _set_up_primitives(self) -> None:
         # the set-up copy of the primitives lives only until the first step
         if self._W0 is None:

@@ -88,8 +88,7 @@ def build_simulation(res: Resolved, comm="auto"):
                          pressure_floor=p.gas.floors.pressure, scalars=tuple(p.gas.scalars),
                          modules=modules, comm=comm)
         get(p.setup.kind)().apply(sim, res.setup_params, ctx)
-        for mod in sim.modules:
-            mod.initialise(sim)
+        sim.initialise_modules()
         try:
             sim.integrator.max_dt()          # finite, positive density and pressure
         except NonFiniteStateError as exc:
