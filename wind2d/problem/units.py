@@ -44,11 +44,16 @@ KINDS = {
     "power": ("erg s-1", (2, -3, 1)),
     "power_density": ("erg cm-3 s-1", (-1, -3, 1)),
     "energy_flux": ("erg cm-2 s-1", (0, -3, 1)),
+    "energy_density_ev": ("eV cm-3", (-1, -2, 1)),
     "mass_rate": ("g s-1", (0, -1, 1)),
     "momentum_rate": ("g cm s-2", (1, -2, 1)),
     "acceleration": ("cm s-2", (1, -2, 0)),
     "specific_energy": ("erg g-1", (2, -2, 0)),
 }
+
+
+# kinds whose unit is not CGS: the unit's value in CGS (``to_cgs`` converts to that unit)
+SCALED = {"energy_density_ev": float((1 * u.eV).to(u.erg).value)}
 
 
 def parse_quantity(text, where: str) -> u.Quantity:
@@ -110,7 +115,7 @@ class UnitSystem:
             # code temperature = p / rho in code units, times mu m_H / k_B
             return self.to_cgs("velocity") ** 2 * self.mu * M_H_CGS / K_B_CGS
         a, b, c = KINDS[kind][1]
-        return L ** a * T ** b * M ** c
+        return L ** a * T ** b * M ** c / SCALED.get(kind, 1.0)
 
     @property
     def G(self) -> float:

@@ -1,0 +1,208 @@
+#!/usr/bin/env python
+"""Cost of the cosmic-ray module (single process, single thread).
+
+1. Zone updates per second of MHD alone and of MHD with cosmic rays (field-
+   aligned diffusion plus streaming) on the same periodic Cartesian grid, in
+   the same run: the timed steps alternate in blocks between the two
+   simulations and the ratio reported is the median over blocks of the
+   per-step times (MHD+CR / MHD), so slow load changes on the machine affect
+   both alike.  Both runs take the same fixed step (the comparison is per step).
+   Target of the issue: ratio <= 1.6.
+2. The module's kernels, each timed alone (fastest of several repeats) on the
+   state of the same grid.
+3. A wind-like problem: an (R, z) grid with the axis, a stratified magnetised
+   atmosphere in uniform gravity with cosmic-ray pressure equal to the gas
+   pressure at the base, diffusion along the vertical field and streaming,
+   outflow at the top and outer edges; V_m = 20 times the largest gas signal
+   speed |v| + c_fast of the initial state.  Reported: wall time per unit
+   simulated time and steps per unit time, next to the same problem without
+   cosmic rays (gas CFL step).
+
+Usage::
+
+    python tools/bench_cr.py               # text report
+    python tools/bench_cr.py --json        # one JSON object
+    python tools/bench_cr.py --quick       # smoke run (seconds)
+"""
+from __future__ import annotations
+
+import argparse
+import json
+import statistics
+import sys
+import time
+
+import numpy as np
+
+from wind2d import Simulation
+from wind2d.physics.cosmic_rays import CosmicRays, coupling, transport
+from wind2d.physics.gravity import Gravity, Uniform
+
+PERIODIC = {"x_low": "periodic", "x_high": "periodic", "y_low": "periodic",
+            "y_high": "periodic"}
+
+
+def _box(n, with_cr):
+    mods = []
+    if with_cr:
+        mods = [CosmicRays.from_keys("cartesian", max_speed=20.0,
+                                     diffusion={"parallel": 0.01, "perpendicular": 0.001},
+                                     streaming={})]
+    sim = Simulation("cartesian", (0, 1, n), (0, 1, n), PERIODIC, mhd=True, riemann="hlld",
+                     modules=mods)
+    sim.set_field(b1=np.cos(np.pi / 6), b2=np.sin(np.pi / 6))
+    fields = dict(rho=lambda x, y: 1 + 0.2 * np.sin(2 * np.pi * (x + y)), p=1.0, vx=0.3, vy=0.1,
+                  Bz=0.1)
+    if with_cr:
+        fields["Ec"] = lambda x, y: 1 + np.exp(-((x - .5) ** 2 + (y - .5) ** 2) / 0.02)
+    sim.set_primitive(**fields)
+    return sim, (mods[0] if mods else None)
+
+
+def throughput(n: int, steps: int, blocks: int) -> dict:
+    """Per-step cost of MHD+CR relative to MHD, alternating blocks."""
+    mhd, _ = _box(n, False)
+    crs, _ = _box(n, True)
+    dt = 0.1 * min(mhd.max_dt(), crs.max_dt())
+    for sim in (mhd, crs):
+        for _ in range(3):
+            sim.step(dt)
+    per = {"mhd": [], "mhd+cr": []}
+    for _ in range(blocks):
+        for name, sim in (("mhd", mhd), ("mhd+cr", crs)):
+            t0 = time.perf_counter()
+            for _ in range(steps):
+                sim.step(dt)
+            per[name].append((time.perf_counter() - t0) / steps)
+    ratios = [c / m for c, m in zip(per["mhd+cr"], per["mhd"])]
+    zones = n * n
+    return {"grid": f"{n}x{n}", "zone_updates_per_s_mhd": zones / min(per["mhd"]),
+            "zone_updates_per_s_mhd_cr": zones / min(per["mhd+cr"]),
+            "step_ratio_median": statistics.median(ratios),
+            "step_ratio_best_blocks": min(per["mhd+cr"]) / min(per["mhd"])}
+
+
+def kernels(n: int, repeats: int = 7, calls: int = 10) -> dict:
+    """Each kernel of the module alone (ms per call, fastest of ``repeats``)."""
+    sim, cr = _box(n, True)
+    sim.step(1e-5)
+    it, m, W = sim.integrator, sim.mesh, sim.integrator.W
+    U = sim.state.U.copy()
+    calls_ = {
+        "interaction": lambda: cr._coefficients(sim, W, 1),
+        "specific_entropy": lambda: transport.specific_entropy(W, cr.T, cr.iE, cr.gamma_c, 0,
+                                                               m.nt2, 0, m.nt1),
+        "fluxes1": lambda: transport.fluxes1(W, cr.T, cr.C, it.F1, cr.PF, cr.A1, cr.G1, cr.SB,
+                                             cr.iE, cr.iF1, cr.iF2, cr.iF3, cr.gamma_c, cr.vm,
+                                             True, 1, it.g1, m.js, m.je, m.is_, m.ie),
+        "fluxes2": lambda: transport.fluxes2(W, cr.T, cr.C, it.F2, cr.A2, cr.G2, cr.SB, cr.iE,
+                                             cr.iF2, cr.iF1, cr.iF3, cr.gamma_c, cr.vm, True, 1,
+                                             it.g2, m.js, m.je, m.is_, m.ie),
+        "entropy_update": lambda: coupling.entropy_update(
+            U, cr.E0, cr.S0, cr.A1, cr.A2, cr.G1, cr.G2, cr.iE, cr.gamma_c, 1e-6, True, False,
+            m.area1, m.vol1, m.dx2, m.js, m.je, m.is_, m.ie),
+        "couple": lambda: coupling.couple(W, U, cr.C, cr.PF, it.F2, cr.acc, cr.iE, cr.iF1,
+                                          cr.iF2, cr.iF3, cr.gamma_c, cr.vm, cr.d_perp, 1e-6,
+                                          True, False, 0.0, False, m.area1, cr.rvol1, m.vol1,
+                                          m.dx2, m.js, m.je, m.is_, m.ie),
+    }
+    out = {}
+    for name, f in calls_.items():
+        f()
+        best = np.inf
+        for _ in range(repeats):
+            t0 = time.perf_counter()
+            for _ in range(calls):
+                f()
+            best = min(best, (time.perf_counter() - t0) / calls)
+        out[name] = best * 1e3
+    out["per_step_(two_stages)"] = 2 * sum(out.values())
+    return out
+
+
+def _wind(nR: int, with_cr: bool, vm_factor: float = 20.0):
+    g, H = 1.0, 0.2                          # gravity, gas scale height (c_s^2 = g H)
+    edges = {"R_low": "axis", "R_high": "outflow", "z_low": "reflecting", "z_high": "outflow"}
+    mods = [Gravity(potential=Uniform(g))]
+    probe = Simulation("cylindrical", (0, 1, nR), (0, 2, 2 * nR), edges, mhd=True,
+                       riemann="hlld", modules=list(mods))
+    B = 0.3
+    probe.set_field(b1=0.0, b2=B)
+    def rho(R, z):
+        return np.exp(-z / H)
+
+    probe.set_primitive(rho=rho, p=lambda R, z: g * H * rho(R, z))
+    # largest gas signal speed of the initial state: |v| + c_fast (v = 0)
+    W = probe.fields()
+    cfast = np.sqrt((5.0 / 3.0 * W["p"] + B ** 2) / W["rho"]).max()
+    vm = vm_factor * float(cfast)
+    if with_cr:
+        mods.append(CosmicRays.from_keys("cylindrical", max_speed=vm,
+                                         diffusion={"parallel": 0.05, "perpendicular": 0.005},
+                                         streaming={}))
+    sim = Simulation("cylindrical", (0, 1, nR), (0, 2, 2 * nR), edges, mhd=True,
+                     riemann="hlld", modules=mods)
+    sim.set_field(b1=0.0, b2=B)
+    fields = dict(rho=rho, p=lambda R, z: g * H * rho(R, z))
+    if with_cr:
+        # cosmic-ray pressure equal to the gas pressure at the base, falling more slowly
+        fields["Ec"] = lambda R, z: 3.0 * g * H * np.exp(-z / (3 * H))
+    sim.set_primitive(**fields)
+    return sim, vm, float(cfast)
+
+
+def wind(nR: int, t_end: float) -> dict:
+    out = {"grid": f"{nR}x{2 * nR} (R, z)"}
+    for label, with_cr in (("mhd", False), ("mhd+cr", True)):
+        sim, vm, cfast = _wind(nR, with_cr)
+        sim.step()                       # compile / load caches outside the timing
+        t0, s0 = sim.t, sim.nstep
+        w0 = time.perf_counter()
+        sim.advance(t0 + t_end)
+        wall = time.perf_counter() - w0
+        out[label] = {"wall_s_per_unit_time": wall / (sim.t - t0),
+                      "steps_per_unit_time": (sim.nstep - s0) / (sim.t - t0),
+                      "zone_updates_per_s": sim.mesh.n1 * sim.mesh.n2 * (sim.nstep - s0) / wall}
+        if with_cr:
+            out[label]["V_m"] = vm
+            out[label]["max_gas_signal_speed"] = cfast
+    out["wall_time_ratio"] = (out["mhd+cr"]["wall_s_per_unit_time"]
+                              / out["mhd"]["wall_s_per_unit_time"])
+    return out
+
+
+def main(argv=None):
+    p = argparse.ArgumentParser(description=__doc__.split("\n\n")[0])
+    p.add_argument("--json", action="store_true", help="print one JSON object")
+    p.add_argument("--quick", action="store_true", help="small grids, few steps (smoke run)")
+    p.add_argument("--size", type=int, default=None, help="box cells per side (default 128)")
+    a = p.parse_args(argv)
+    n = a.size or (32 if a.quick else 128)
+    res = {"throughput": throughput(n, steps=2 if a.quick else 10, blocks=2 if a.quick else 9),
+           "kernels_ms": kernels(n, repeats=2 if a.quick else 7, calls=2 if a.quick else 10),
+           "wind": wind(16 if a.quick else 48, 0.002 if a.quick else 0.05)}
+    if a.json:
+        print(json.dumps(res))
+        return 0
+    t = res["throughput"]
+    print(f"periodic box {t['grid']}, MHD (HLLD, CT) with and without cosmic rays")
+    print(f"  zone updates/s  MHD     {t['zone_updates_per_s_mhd']:.3e}")
+    print(f"  zone updates/s  MHD+CR  {t['zone_updates_per_s_mhd_cr']:.3e}")
+    print(f"  step cost ratio MHD+CR / MHD: median {t['step_ratio_median']:.2f}, "
+          f"best blocks {t['step_ratio_best_blocks']:.2f}  (target <= 1.6)")
+    print("module kernels (ms per call):")
+    for k, v in res["kernels_ms"].items():
+        print(f"  {k:24s} {v:.3f}")
+    w = res["wind"]
+    print(f"wind-like problem {w['grid']}, V_m = {w['mhd+cr']['V_m']:.3g} "
+          f"= 20 x max gas signal speed {w['mhd+cr']['max_gas_signal_speed']:.3g}")
+    for k in ("mhd", "mhd+cr"):
+        print(f"  {k:7s} wall s per unit time {w[k]['wall_s_per_unit_time']:.3g}, "
+              f"steps per unit time {w[k]['steps_per_unit_time']:.3g}, "
+              f"zone updates/s {w[k]['zone_updates_per_s']:.3e}")
+    print(f"  wall-time ratio {w['wall_time_ratio']:.1f}")
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())

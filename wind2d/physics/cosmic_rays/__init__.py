@@ -1,0 +1,4 @@
+"""Cosmic rays by the two-moment method (Jiang & Oh 2018): the module
+(:mod:`.module`), HLL transport (:mod:`.transport`), implicit gas coupling
+(:mod:`.coupling`) and collisional losses (:mod:`.losses`)."""
+from .module import CosmicRayParams, CosmicRays  # noqa: F401
