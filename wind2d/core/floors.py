@@ -82,7 +82,9 @@ def cons_to_prim(U, W, b1, b2, area1, gamma, iso, cs2, mhd, nhydro, nadv, d_floo
                 W[IPR, j, i] = p
             for v in range(nhydro, nadv):
                 W[v, j, i] = U[v, j, i] * rd
-            for v in range(nadv, nv):
+    for v in range(nadv, nv):            # module variables: densities, copied row by row
+        for j in range(u(js), u(je)):
+            for i in range(u(is_), u(ie)):
                 W[v, j, i] = U[v, j, i]
 
 

@@ -101,7 +101,7 @@ def sweep1(W, b1, F, geo, limiter, solver, gamma, iso, cs2, mhd, nscal, iscal,
     ``WL``/``WR`` are row buffers ``[nvar, nt1 + 1]``: cell ``k`` writes its
     lower-face value to ``WR[:, k]`` and its upper-face value to ``WL[:, k+1]``.
     """
-    nv = W.shape[0]
+    nv = iscal + nscal          # gas and scalars; module variables have their own fluxes
     k0 = u(f0) - ONE
     k1 = u(f1)
     for j in range(u(j0), u(j1)):
@@ -132,7 +132,7 @@ def sweep2(W, b2, F, geo, limiter, solver, gamma, iso, cs2, mhd, nscal, iscal,
     (upper-face values of row ``j - 1``), then ``WL`` takes row ``j``'s upper
     faces.  Each cell is reconstructed once.
     """
-    nv = W.shape[0]
+    nv = iscal + nscal          # gas and scalars; module variables have their own fluxes
     ia = u(i0)
     ib = u(i1)
     for j in range(u(f0) - ONE, u(f1)):
