@@ -139,3 +139,12 @@ def test_bad_module_file_and_bad_module_key(tmp_path, capsys):
                  + "physics:\n  uniform_heating: {rate: 3 km/s}\n")
     assert main(["check", str(src)]) == 2
     assert "physics.uniform_heating.rate" in capsys.readouterr().err
+
+
+def test_bad_key_inside_a_list_of_alternatives_names_the_allowed_keys(tmp_path, capsys):
+    src = _write(tmp_path, BOX + "physics:\n  gravity:\n    potentials:\n"
+                 "      - {kind: nfw, virial_mass: 1e11 Msun, concentraton: 10}\n")
+    assert main(["check", str(src)]) == 2
+    err = capsys.readouterr().err
+    assert "physics.gravity.potentials.0.concentraton: unknown key (did you mean " \
+        "'concentration'?)" in err, err

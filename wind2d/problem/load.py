@@ -176,18 +176,46 @@ def _unwrap(tp):
     return tp
 
 
+def _union_member(tp, part):
+    """The member of a union that pydantic names ``part`` in an error location: by
+    its discriminator value (e.g. 'plane') or its class name."""
+    for arg in typing.get_args(tp):
+        arg = _unwrap(arg)
+        if not (isinstance(arg, type) and issubclass(arg, BaseModel)):
+            continue
+        if arg.__name__ == part:
+            return arg
+        for f in arg.model_fields.values():
+            lit = _unwrap(f.annotation)
+            if typing.get_origin(lit) is typing.Literal and part in typing.get_args(lit):
+                return arg
+    return None
+
+
 def _model_at(model: type[BaseModel], loc: tuple) -> type[BaseModel] | None:
+    tp = model
     for part in loc:
-        if not (isinstance(model, type) and issubclass(model, BaseModel)):
+        tp = _unwrap(tp)
+        origin = typing.get_origin(tp)
+        if origin in (list, tuple) and isinstance(part, int) and typing.get_args(tp):
+            tp = typing.get_args(tp)[0]
+            continue
+        if origin in (typing.Union, getattr(__import__("types"), "UnionType", None)):
+            tp = _union_member(tp, part)
+            if tp is None:
+                return None
+            continue
+        if not (isinstance(tp, type) and issubclass(tp, BaseModel)):
             return None
         field = None
-        for name, f in model.model_fields.items():
+        for name, f in tp.model_fields.items():
             if part in (name, f.alias):
                 field = f
         if field is None:
             return None
-        model = _unwrap(field.annotation)
-    return model if isinstance(model, type) and issubclass(model, BaseModel) else None
+        tp = field.annotation
+    tp = _unwrap(tp)
+    return tp if isinstance(tp, type) and issubclass(tp, BaseModel) else None
 
 
 def _keys_of(model: type[BaseModel]) -> list[str]:
@@ -208,6 +236,9 @@ def _key_path(loc: tuple, data) -> tuple:
             node = node[part]
         elif isinstance(part, str) and _TYPE_TAG.fullmatch(part):
             continue
+        elif isinstance(node, dict) and isinstance(part, str) and \
+                part in [v for v in node.values() if isinstance(v, str)]:
+            continue            # the tag of a discriminated union: the value of its key
         else:
             node = None
         out.append(part)
@@ -233,7 +264,7 @@ def describe_errors(exc: ValidationError, root: type[BaseModel], prefix: str = "
             union_paths.add(path)
         kind = e["type"]
         if kind == "extra_forbidden" and loc:
-            parent = _model_at(root, loc[:-1])
+            parent = _model_at(root, tuple(e["loc"])[:-1])
             allowed = _keys_of(parent) if parent else []
             near = difflib.get_close_matches(str(loc[-1]), allowed, n=1)
             hint = f" (did you mean '{near[0]}'?)" if near else ""
@@ -241,7 +272,7 @@ def describe_errors(exc: ValidationError, root: type[BaseModel], prefix: str = "
         elif kind == "missing":
             out.append(f"{path}: required key is missing")
         elif kind in ("model_type", "model_attributes_type", "dict_type"):
-            sub = _model_at(root, loc)
+            sub = _model_at(root, tuple(e["loc"]))
             keys = f" (keys: {', '.join(_keys_of(sub))})" if sub else ""
             got = e.get("input")
             out.append(f"{path}: must be a section, a mapping of keys{keys}; got "
