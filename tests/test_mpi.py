@@ -57,9 +57,54 @@ setup: {kind: field_loop, amplitude: 1e-3, radius: 0.3, state: {rho: 1, p: 1, vx
 stop: {time: 10.0, max_steps: 24}
 outputs: {snapshots: {every: 0.05}, history: {every: 0.01}}
 """,
+    "cosmic_rays_diffusion_streaming": """
+title: cosmic-ray blast on the axis with field-aligned diffusion and streaming
+grid:
+  geometry: cylindrical
+  R: {from: 0, to: 1, cells: 30, stretch: 1.03}
+  z: {from: -1, to: 1, cells: 37}
+edges: {R_low: axis, R_high: outflow, z_low: outflow, z_high: outflow}
+gas: {magnetised: true}
+setup: {kind: blast, energy: 1.0, radius: 0.15, ambient: {rho: 1.0, p: 0.1, Bz: 0.5, BR: 0.2}}
+physics:
+  cosmic_rays:
+    max_speed: 30
+    diffusion: {parallel: 0.02, perpendicular: 0.002}
+    streaming: {ionised_fraction: 0.5}
+    initial: {pressure_ratio: 0.5}
+stop: {time: 10.0, max_steps: 24}
+outputs: {snapshots: {every: 0.002}, history: {every: 0.0005}}
+""",
+    "galaxy_modules": """
+title: rotating disk in a halo with gravity, injection, a held sphere and outflow rates
+units: {length: kpc, time: Myr, mass: Msun}
+grid:
+  geometry: cylindrical
+  R: {from: 0 kpc, to: 8 kpc, cells: 26, stretch: 1.04}
+  z: {from: -8 kpc, to: 8 kpc, cells: 34}
+edges: {R_low: axis, R_high: outflow, z_low: outflow, z_high: outflow}
+gas: {magnetised: true}
+setup: {kind: disk_in_halo, rho_disk: 1 cm**-3, T_disk: 1e4 K, rotation: 0.9,
+        rho_halo: 1e-3 cm**-3, T_halo: 1e6 K, field: {kind: toroidal, beta: 30, core_radius: 0.5 kpc}}
+physics:
+  gravity:
+    potentials: [{kind: nfw, virial_mass: 1e11 Msun, concentration: 10},
+                 {kind: miyamoto_nagai, mass: 3e9 Msun, a: 1 kpc, b: 0.2 kpc}]
+  injection:
+    region: {shape: disk, radius: 1 kpc, half_height: 0.3 kpc}
+    star_formation: {kind: constant, rate: 2 Msun/yr}
+    cr_fraction: 0.0
+  hold:
+    regions: [{shape: slab, z_min: 7.5 kpc, z_max: 8 kpc, R_max: 1 kpc, state: initial}]
+  outflow_rates:
+    surfaces: [{shape: plane, height: 2 kpc}, {shape: sphere, radius: 5 kpc}]
+stop: {time: 1000 Myr, max_steps: 24}
+outputs: {snapshots: {every: 0.5 Myr}, history: {every: 0.1 Myr}}
+""",
 }
 RANKS = {"mhd_cylindrical_stretched_axis": (2, 3, 4), "gas_cylindrical_rotating": (2, 4),
-         "mhd_cartesian_periodic": (2, 3)}
+         "mhd_cartesian_periodic": (2, 3), "cosmic_rays_diffusion_streaming": (2, 3, 4),
+         "galaxy_modules": (2, 4)}
 
 
 def _launch(n, args, cwd, env=None, timeout=240):
@@ -117,9 +162,11 @@ def test_state_is_bitwise_identical_on_any_rank_count(serial_runs, tmp_path, cas
             assert len({s.file_name for s in f["fields/rho"].virtual_sources()}) == n
 
 
-@pytest.mark.parametrize("first,second", [(4, 1), (4, 2), (1, 2)])
-def test_checkpoint_resumes_on_another_rank_count(serial_runs, tmp_path, first, second):
-    case = "mhd_cylindrical_stretched_axis"
+@pytest.mark.parametrize("case,first,second", [
+    ("mhd_cylindrical_stretched_axis", 4, 1), ("mhd_cylindrical_stretched_axis", 4, 2),
+    ("mhd_cylindrical_stretched_axis", 1, 2), ("cosmic_rays_diffusion_streaming", 4, 1),
+    ("galaxy_modules", 2, 1)])
+def test_checkpoint_resumes_on_another_rank_count(serial_runs, tmp_path, case, first, second):
     (tmp_path / "p.yaml").write_text(CASES[case])
     r = _launch(first, ["run", "p.yaml", "--out", "run", "--quiet", "--set",
                         "stop.max_steps=11"], tmp_path)
