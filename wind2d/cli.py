@@ -130,15 +130,29 @@ def cmd_check(args) -> int:
           f"({p.scheme.limiter}), courant {p.scheme.courant}")
     print(f"setup: {p.setup.kind} " + json.dumps(res.setup_params.model_dump(), default=str))
     print(f"stop: t = {us.describe(p.stop.time, 'time')}")
+    if sim.modules:
+        print("physics: " + ", ".join(f"{mod.name} (order {mod.order})" for mod in sim.modules))
     cells = m.n1 * m.n2
-    per_zone = 450 if sim.varmap.mhd else 250      # measured by tools/bench_core.py
-    dt0 = sim.integrator.max_dt()
+    per_zone = 56 * sim.varmap.nvar + 6 * 8        # bytes; measured by tools/bench_core.py
+    dt0 = sim.max_dt()                               # CFL and every module's limit
     steps = p.stop.time / dt0 if dt0 > 0 else float("inf")
-    rate = 5e6 if sim.varmap.mhd else 1.5e7
+    # measured here: one warm-up step, then two timed steps of this very problem
+    import time
+    from .errors import NonFiniteStateError
     print(f"memory: about {cells * per_zone / 2**20:.1f} MiB for {cells} cells")
+    try:
+        sim.step()
+        w0 = time.perf_counter()
+        for _ in range(2):
+            sim.step()
+        rate = 2 * cells / max(time.perf_counter() - w0, 1e-9)
+    except NonFiniteStateError as exc:
+        print(f"cost: unknown; the first test steps failed: {exc}")
+        return 5
     print(f"cost: first step dt = {dt0:.4g} {us.time}; about {steps:.3g} steps, "
-          f"{steps * cells:.3g} zone-updates, ~{steps * cells / rate / 60:.3g} min on one core "
-          "(the step may shrink as the flow develops)")
+          f"{steps * cells:.3g} zone-updates; measured {rate:.3g} zone-updates/s, so "
+          f"~{steps * cells / rate / 60:.3g} min on one core (the step may shrink as the "
+          "flow develops)")
     return 0
 
 

@@ -251,7 +251,10 @@ class Simulation:
             ct.cell_centred_field(st.b1, st.b2, W, m.area1, m.js, m.je, m.is_, m.ie)
         prim_to_cons(W, st.U, self.eos.gamma, self.eos.isothermal, vm.mhd, vm.nhydro, vm.nadv,
                      m.js, m.je, m.is_, m.ie)
+        # setting up a state is not a floor activation (a half-set state may be empty)
+        saved = self.integrator.counters.copy()
         self.integrator.primitives(st)
+        self.integrator.counters[:] = saved
 
     # --------------------------------------------------------------- running
     def max_dt(self) -> float:
