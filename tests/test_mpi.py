@@ -101,8 +101,21 @@ physics:
 stop: {time: 1000 Myr, max_steps: 24}
 outputs: {snapshots: {every: 0.5 Myr}, history: {every: 0.1 Myr}}
 """,
+    "fallback_at_tile_edges": """
+title: streams receding next to the tile edge at x = 0.5 (first-order fallback there)
+grid:
+  geometry: cartesian
+  x: {from: 0, to: 1, cells: 100}
+  y: {from: 0, to: 0.08, cells: 8}
+edges: {x_low: periodic, x_high: periodic, y_low: periodic, y_high: periodic}
+gas: {gamma: 1.4, floors: {density: 1e-12, pressure: 1e-14}}
+setup: {kind: shock_tube, along: x, at: 0.52, left: {rho: 1, p: 0.4, vx: -5.6},
+        right: {rho: 1, p: 0.4, vx: 5.6}}
+stop: {time: 10.0, max_steps: 40}
+outputs: {history: {every: 0.01}}
+""",
 }
-RANKS = {"mhd_cylindrical_stretched_axis": (2, 3, 4), "gas_cylindrical_rotating": (2, 4),
+RANKS = {"fallback_at_tile_edges": (2, 4), "mhd_cylindrical_stretched_axis": (2, 3, 4), "gas_cylindrical_rotating": (2, 4),
          "mhd_cartesian_periodic": (2, 3), "cosmic_rays_diffusion_streaming": (2, 3, 4),
          "galaxy_modules": (2, 4)}
 

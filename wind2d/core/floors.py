@@ -177,7 +177,12 @@ def find_bad_cells(U, b1, b2, area1, gamma, iso, mhd, flags, js, je, is_, ie):
 def first_order_faces(W, b1, b2, F1, F2, flags, gamma, iso, cs2, mhd, nhydro, nadv,
                       js, je, is_, ie):
     """Replace the fluxes on every face of a flagged cell by first-order HLLE fluxes
-    and flag the neighbours that share those faces (they must be recomputed)."""
+    and flag the neighbours that share those faces (they must be recomputed).
+
+    Flags in the first ghost layer mark flagged cells of the neighbouring tile or
+    of the periodic image: the face they share with an interior cell is replaced
+    too, so both sides use the same flux (conservative, and bitwise the same on any
+    number of tiles)."""
     for j in range(js, je):
         for i in range(is_, ie):
             if flags[j, i] == 1:
@@ -186,8 +191,28 @@ def first_order_faces(W, b1, b2, F1, F2, flags, gamma, iso, cs2, mhd, nhydro, na
                 _first_order_flux(W, b2, F2, 2, j, i, gamma, iso, cs2, mhd, nhydro, nadv)
                 _first_order_flux(W, b2, F2, 2, j + 1, i, gamma, iso, cs2, mhd, nhydro, nadv)
     for j in range(js, je):
+        if flags[j, is_ - 1] == 1:
+            _first_order_flux(W, b1, F1, 1, j, is_, gamma, iso, cs2, mhd, nhydro, nadv)
+        if flags[j, ie] == 1:
+            _first_order_flux(W, b1, F1, 1, j, ie, gamma, iso, cs2, mhd, nhydro, nadv)
+    for i in range(is_, ie):
+        if flags[js - 1, i] == 1:
+            _first_order_flux(W, b2, F2, 2, js, i, gamma, iso, cs2, mhd, nhydro, nadv)
+        if flags[je, i] == 1:
+            _first_order_flux(W, b2, F2, 2, je, i, gamma, iso, cs2, mhd, nhydro, nadv)
+    for j in range(js, je):
         for i in range(is_, ie):
             if flags[j, i] == 1:
                 for jj, ii in ((j - 1, i), (j + 1, i), (j, i - 1), (j, i + 1)):
                     if js <= jj < je and is_ <= ii < ie and flags[jj, ii] == 0:
                         flags[jj, ii] = 2
+    for j in range(js, je):
+        if flags[j, is_ - 1] == 1 and flags[j, is_] == 0:
+            flags[j, is_] = 2
+        if flags[j, ie] == 1 and flags[j, ie - 1] == 0:
+            flags[j, ie - 1] = 2
+    for i in range(is_, ie):
+        if flags[js - 1, i] == 1 and flags[js, i] == 0:
+            flags[js, i] = 2
+        if flags[je, i] == 1 and flags[je - 1, i] == 0:
+            flags[je - 1, i] = 2

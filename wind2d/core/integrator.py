@@ -55,6 +55,10 @@ class Integrator:
         self.gas = (eos.gamma, eos.isothermal, eos.cs2)
         self.zero_emf = np.array([boundaries.edges[e][0] in ("axis", "reflecting")
                                   for e in ("x1_lo", "x1_hi", "x2_lo", "x2_hi")])
+        # edges whose other side is a cell of this run (periodic or another tile): the
+        # first-order fallback must agree on the fluxes through them
+        self.shared_edges = any(boundaries.edges[e][0] in ("periodic", "exchange")
+                                for e in ("x1_lo", "x1_hi", "x2_lo", "x2_hi"))
         self.modules = []           # physics modules, in acting order
         self.owner = None           # the Simulation handed to module hooks
 
@@ -115,7 +119,8 @@ class Integrator:
         g, iso, cs2 = self.gas
         nbad = floors.find_bad_cells(out.U, out.b1, out.b2, m.area1, g, iso, self.mhd,
                                      self.flags, m.js, m.je, m.is_, m.ie)
-        if nbad == 0:
+        nghost = self._ghost_flags() if self.shared_edges else 0
+        if nbad == 0 and nghost == 0:
             return
         floors.first_order_faces(self.W, out.b1, out.b2, self.F1, self.F2, self.flags, g, iso,
                                  cs2, self.mhd, self.varmap.nhydro, self.varmap.nadv,
@@ -124,6 +129,24 @@ class Integrator:
                        m.vol1, m.geo1, m.dx1, m.dx2, m.cylindrical, self.mhd, iso,
                        self.flags, m.js, m.je, m.is_, m.ie)
         self.counters[floors.FALLBACK] += nbad
+
+    def _ghost_flags(self) -> int:
+        """Copy the fallback flags of the cells across periodic and tile edges into
+        the first ghost layer; return how many of them are flagged."""
+        f, m = self.flags, self.mesh
+        edges = self.bc.edges
+        if edges["x1_lo"][0] == "periodic":
+            f[m.js:m.je, m.is_ - 1] = f[m.js:m.je, m.ie - 1]
+            f[m.js:m.je, m.ie] = f[m.js:m.je, m.is_]
+        if edges["x2_lo"][0] == "periodic":
+            f[m.js - 1, m.is_:m.ie] = f[m.je - 1, m.is_:m.ie]
+            f[m.je, m.is_:m.ie] = f[m.js, m.is_:m.ie]
+        if self.bc.halo is not None:
+            self.bc.halo.exchange_flags(f)
+        return int(np.count_nonzero(f[m.js:m.je, m.is_ - 1] == 1)
+                   + np.count_nonzero(f[m.js:m.je, m.ie] == 1)
+                   + np.count_nonzero(f[m.js - 1, m.is_:m.ie] == 1)
+                   + np.count_nonzero(f[m.je, m.is_:m.ie] == 1))
 
     # ------------------------------------------------------------ public
     def max_dt(self) -> float:

@@ -95,3 +95,35 @@ class Halo:
                 if self.mhd:
                     bn[:, hi:hi + 1 + g] = vbn               # the shared face too
                     bt[:, hi:hi + g] = vbt
+
+    def exchange_flags(self, flags) -> None:
+        """Copy the edge rows/columns of the int8 ``flags`` of the neighbouring tiles
+        into this tile's first ghost layer (interior extent only; no corners)."""
+        from mpi4py import MPI
+        m = self.mesh
+        for axis in (1, 2):
+            lo, hi = self.nb[f"x{axis}_lo"], self.nb[f"x{axis}_hi"]
+            if lo is None and hi is None:
+                continue
+            if axis == 1:
+                first, last = flags[m.js:m.je, m.is_], flags[m.js:m.je, m.ie - 1]
+            else:
+                first, last = flags[m.js, m.is_:m.ie], flags[m.je - 1, m.is_:m.ie]
+            lo_r = MPI.PROC_NULL if lo is None else lo
+            hi_r = MPI.PROC_NULL if hi is None else hi
+            from_hi = np.zeros(first.size, dtype=np.int8)
+            from_lo = np.zeros(first.size, dtype=np.int8)
+            self.comm.Sendrecv(np.ascontiguousarray(first), dest=lo_r, sendtag=40 + axis,
+                               recvbuf=from_hi, source=hi_r, recvtag=40 + axis)
+            self.comm.Sendrecv(np.ascontiguousarray(last), dest=hi_r, sendtag=50 + axis,
+                               recvbuf=from_lo, source=lo_r, recvtag=50 + axis)
+            if axis == 1:
+                if hi is not None:
+                    flags[m.js:m.je, m.ie] = from_hi
+                if lo is not None:
+                    flags[m.js:m.je, m.is_ - 1] = from_lo
+            else:
+                if hi is not None:
+                    flags[m.je, m.is_:m.ie] = from_hi
+                if lo is not None:
+                    flags[m.js - 1, m.is_:m.ie] = from_lo
