@@ -148,3 +148,32 @@ def test_bad_key_inside_a_list_of_alternatives_names_the_allowed_keys(tmp_path, 
     err = capsys.readouterr().err
     assert "physics.gravity.potentials.0.concentraton: unknown key (did you mean " \
         "'concentration'?)" in err, err
+
+
+def test_derived_fields_may_be_infinite_but_never_nan(tmp_path):
+    """A derived diagnostic may be +inf where that is its meaning (no cooling: an
+    infinite cooling time); NaN is refused and nothing is written."""
+    from wind2d import NonFiniteStateError, Simulation
+    from wind2d.io import read_snapshot, write_snapshot
+    from wind2d.physics import Module
+    from wind2d.problem.units import UnitSystem
+
+    class Diagnostic(Module):
+        value = np.inf
+
+        def derived_fields(self, sim):
+            a = np.ones((sim.mesh.n2, sim.mesh.n1))
+            a[0, 0] = self.value
+            return {"diagnostic": (a, "time")}
+
+    edges = {"x_low": "periodic", "x_high": "periodic", "y_low": "periodic",
+             "y_high": "periodic"}
+    mod = Diagnostic(None, None)
+    sim = Simulation("cartesian", (0, 1, 4), (0, 1, 4), edges, modules=[mod])
+    sim.set_primitive(rho=1.0, p=1.0)
+    path = write_snapshot(tmp_path / "a.h5", sim, UnitSystem(), {})
+    assert np.isposinf(read_snapshot(path).fields["diagnostic"][0, 0])
+    mod.value = np.nan
+    with pytest.raises(NonFiniteStateError, match="diagnostic"):
+        write_snapshot(tmp_path / "b.h5", sim, UnitSystem(), {})
+    assert not (tmp_path / "b.h5").exists()

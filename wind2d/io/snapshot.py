@@ -101,13 +101,18 @@ def snapshot_fields(sim, extra_fields=None) -> dict[str, tuple[np.ndarray, str]]
     return out
 
 
-def check_finite(fields: dict[str, tuple[np.ndarray, str]], path=None) -> None:
-    """Raise NonFiniteStateError naming the first bad field, cell and value."""
+def check_finite(fields: dict[str, tuple[np.ndarray, str]], path=None, state=()) -> None:
+    """Raise NonFiniteStateError naming the first bad field, cell and value.
+
+    Fields named in ``state`` (the evolved variables) must be finite; derived
+    fields may be ``+inf`` where that is their meaning (plasma beta without field,
+    cooling time without cooling), never NaN or ``-inf``.
+    """
     where = f"{path}: " if path is not None else ""
     for name, (arr, _kind) in fields.items():
         bad = ~np.isfinite(arr)
-        if name == "plasma_beta":
-            bad &= ~np.isposinf(arr)         # +inf marks a zero field, not a bad state
+        if name not in state:
+            bad &= ~np.isposinf(arr)
         if bad.any():
             j, i = np.argwhere(bad)[0]
             raise NonFiniteStateError(
@@ -126,7 +131,7 @@ def write_tile(path, sim, units,
     """
     path = Path(path)
     fields = snapshot_fields(sim, extra_fields)
-    check_finite(fields, path)
+    check_finite(fields, path, sim.varmap.primitive_names)
     path.parent.mkdir(parents=True, exist_ok=True)
     with atomic_path(path) as tmp:
         with h5py.File(tmp, "w") as f:
@@ -200,7 +205,7 @@ def write_snapshot(path, sim, units, provenance: dict,
     m, eos = sim.mesh, sim.eos
     if tiles is None:
         fields = snapshot_fields(sim, extra_fields)
-        check_finite(fields, path)
+        check_finite(fields, path, sim.varmap.primitive_names)
     else:
         fields = {}
         for name, kind in kinds.items():
