@@ -76,7 +76,7 @@ stop: {time: 10.0, max_steps: 24}
 outputs: {snapshots: {every: 0.002}, history: {every: 0.0005}}
 """,
     "galaxy_modules": """
-title: rotating disk in a halo with gravity, injection, a held sphere and outflow rates
+title: rotating disk in a halo with gravity, cooling, injection, a held slab and outflow rates
 units: {length: kpc, time: Myr, mass: Msun}
 grid:
   geometry: cylindrical
@@ -98,6 +98,9 @@ physics:
     regions: [{shape: slab, z_min: 7.5 kpc, z_max: 8 kpc, R_max: 1 kpc, state: initial}]
   outflow_rates:
     surfaces: [{shape: plane, height: 2 kpc}, {shape: sphere, radius: 5 kpc}]
+  cooling:
+    curve: {kind: solar_cie}
+    floor: 1e4 K
 stop: {time: 1000 Myr, max_steps: 24}
 outputs: {snapshots: {every: 0.5 Myr}, history: {every: 0.1 Myr}}
 """,
