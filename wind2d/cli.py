@@ -241,6 +241,14 @@ def main(argv=None) -> int:
         if rank() == 0:
             print(f"wind2d {args.command}: {exc.filename}: no such file", file=sys.stderr)
         return 2
+    except BrokenPipeError:
+        # the reader of our output went away (e.g. `wind2d check ... | head`): not an error
+        import os
+        try:
+            os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
+        except OSError:
+            pass
+        return 0
     except MemoryError:
         if rank() == 0:
             print(f"wind2d {args.command}: not enough memory for this problem on this "
