@@ -15,14 +15,14 @@ with cell velocities it does not follow the gas mass fluxes (next to the
 wall of a hydrostatic atmosphere the cosmic rays drift and pile up).  So it
 is done in conserved form, with the cosmic-ray entropy ``s = E_c^(1/gamma_c)``
 (``ds/dt + div(s v) = 0``; ``s / rho`` is a passive scalar), advected with the
-gas mass flux like the core's scalars (:func:`entropy_update`):
+gas mass flux like the core's scalars (first part of :func:`stage_update`):
 
     E_c  <-  E_c + [ s'^gamma_c - (E_c^n - dt div A) ]
 
 where ``s' = s^n - dt div G`` (entropy fluxes ``G``) and ``A`` are the advective
 parts of the energy fluxes (``m (E_c + P_c)/rho``, upwinded with the mass flux
 ``m``); the difference goes to the gas energy (it is the work ``-v . grad P_c``
-done on the gas in smooth flow).  The implicit solve (:func:`couple`) then
+done on the gas in smooth flow).  The implicit solve (same kernel) then
 exchanges only what the adiabatic part does not hold: the streaming loss and
 the work of the non-steady part of the force.
 
@@ -70,74 +70,233 @@ has neither flux nor geometric source.
 """
 from __future__ import annotations
 
-from numba import njit
+import math
+
+import numpy as np
+from llvmlite import ir
+from numba import njit, types
+from numba.core import cgutils
+from numba.extending import intrinsic
 
 from ...core.indexing import ONE, u
-from ...state import IDN, IEN, IM1, IM2, IM3
-from .transport import CB1, CB2, CB3, CDPAR, CVS
+from ...state import IB1, IB2, IB3, IDN, IEN, IM1, IM2, IM3
+from .transport import CDPAR, CVS
+
+# ----------------------------------------------------------------- x ** (4/3)
+# The entropy update needs E = s ** gamma_c in every cell and stage; the library
+# ``pow`` is a scalar call (about 40 cycles) and was a third of the module's time.
+# For gamma_c = 4/3 (the default) :func:`pow43` gives the same double without it:
+# a double-double evaluation of s ** gamma_c accurate to ~1e-3 ulp (inverse cube
+# root by Newton's iteration from a bit-pattern guess, one compensated Newton
+# correction of the cube root with error-free products, Dekker 1971, and the
+# factor s^(-EPS43) because gamma_c is 4/3 rounded), rounded to nearest.  Where
+# the exact value lies within 0.45 ulp of that double, every pow with an error
+# below 0.55 ulp returns the same double (glibc's pow documents a worst case of
+# 0.54 ulp, from memory; we observed at most 0.508 ulp in 4e7 samples), so the
+# result is bitwise that of ``s ** gamma_c``; otherwise (about one cell in ten)
+# and outside 2^-700 < s < 2^700 the caller falls back to ``pow``.  Checked
+# against the library pow on 1.3e9 inputs (all binades, binade edges, near
+# perfect cubes): none differs (tests/test_cr_pow43.py repeats a sample).  With
+# a C library whose pow errs by more than 0.55 ulp the two could differ in the
+# last bit in rare cells (round-off; runs stay identical on any rank count).
+
+@intrinsic
+def _fma(typingctx, a, b, c):
+    """``a * b + c`` with one rounding (llvm.fma: a vector instruction where the
+    CPU has FMA, else the C library's exact fma)."""
+    sig = types.float64(types.float64, types.float64, types.float64)
+
+    def codegen(context, builder, signature, args):
+        d = ir.DoubleType()
+        fn = cgutils.get_or_insert_function(builder.module, ir.FunctionType(d, (d, d, d)),
+                                            "llvm.fma.f64")
+        return builder.call(fn, args)
+    return sig, codegen
+
+
+@intrinsic
+def _bits(typingctx, x):
+    """The bit pattern of a double as an int64."""
+    sig = types.int64(types.float64)
+
+    def codegen(context, builder, signature, args):
+        return builder.bitcast(args[0], ir.IntType(64))
+    return sig, codegen
+
+
+@intrinsic
+def _double(typingctx, k):
+    """The double with bit pattern ``k``."""
+    sig = types.float64(types.int64)
+
+    def codegen(context, builder, signature, args):
+        return builder.bitcast(args[0], ir.DoubleType())
+    return sig, codegen
+
+
+FOUR_THIRDS = 4.0 / 3.0            # gamma_c = 4/3 as a double: 4/3 - EPS43
+EPS43 = 2.0 ** -52 / 3.0           # x ** FOUR_THIRDS = x^(4/3) (1 - EPS43 ln x + ...)
+_LO43 = 2.0 ** -700
+_HI43 = 2.0 ** 700
+_GUESS = 1364 << 52                # x^(-1/3) ~ (1023 + 341) << 52 - bits(x) / 3 (< 9 %)
+_MANT = (1 << 52) - 1
+_EXP0 = 1023 << 52
+_LN2 = math.log(2.0)
+_LN1, _LN2C, _LN3 = 0.986692, -0.407413, 0.11478   # ln(1+u), 0 <= u < 1: 1e-3 (fit)
+_ULP1 = 2.0 ** -52
+_SAFE = 0.45                       # in ulp: the exact value is this near the result
+
+
+@njit(cache=True, error_model="numpy", inline="always")
+def pow43(s):
+    """``(y, exact)``: ``y`` = ``s ** FOUR_THIRDS`` rounded to nearest for
+    ``2^-700 < s < 2^700``; ``exact`` is true where ``y`` is bitwise the library
+    ``s ** FOUR_THIRDS`` (the exact power lies within 0.45 ulp of ``y``).
+    Branch-free and without divisions, so loops over it vectorise."""
+    ok = (s > _LO43) & (s < _HI43)
+    x = s if ok else 1.0
+    k = _bits(x)
+    third = 1.0 / 3.0
+    r = _double(_GUESS - np.int64(np.float64(k) * third))
+    for _ in range(4):                    # Newton for x^(-1/3): error 9e-2 -> 2e-13
+        r = r + r * ((1.0 - x * (r * r * r)) * third)
+    rr = r * r
+    c = x * rr                            # x^(1/3)
+    # residual x - c^3 from error-free products: c + d = x^(1/3) to ~1e-25
+    c2 = c * c
+    e2 = _fma(c, c, -c2)
+    c3 = c2 * c
+    e3 = _fma(c2, c, -c3)
+    d = (((x - c3) - e3) - e2 * c) * rr * third
+    # ln x to 1e-3 (enough for the EPS43 term): exponent and a cubic in the mantissa
+    w = _double((k & _MANT) | _EXP0) - 1.0
+    lnx = np.float64((k >> 52) - 1023) * _LN2 + w * (_LN1 + w * (_LN2C + w * _LN3))
+    # x (c + d) (1 - EPS43 ln x) as p + lo, rounded; t is the rounding remainder
+    p = x * c
+    lo = (_fma(x, c, -p) + x * d) - p * (EPS43 * lnx)
+    y = p + lo
+    t = (p - y) + lo
+    ulp = _double((_bits(y) >> 52) << 52) * _ULP1
+    return y, ok & (abs(t) < _SAFE * ulp)
+
 
 
 @njit(cache=True, error_model="numpy")
-def entropy_update(U, E0, S0, A1, A2, G1, G2, iE, gamma_c, dt, feedback, iso, area1, vol1,
-                   dx2, js, je, is_, ie):
-    """Replace the advective part of the E_c update by the conservative entropy
-    update (see the module docstring); the difference goes to the gas energy.
-    ``E0``, ``S0``: E_c and E_c^(1/gamma_c) at the start of the step."""
-    for j in range(u(js), u(je)):
-        r2 = dt / dx2[j]
-        for i in range(u(is_), u(ie)):
-            rv = dt / vol1[i]
-            s = (S0[j, i] - rv * (area1[i + ONE] * G1[j, i + ONE] - area1[i] * G1[j, i])
-                 - r2 * (G2[j + ONE, i] - G2[j, i]))
-            ea = (E0[j, i] - rv * (area1[i + ONE] * A1[j, i + ONE] - area1[i] * A1[j, i])
-                  - r2 * (A2[j + ONE, i] - A2[j, i]))
-            de = (s ** gamma_c if s > 0.0 else 0.0) - ea
-            U[iE, j, i] += de
-            if feedback and not iso:
-                U[IEN, j, i] -= de
+def stage_update(W, U, F2, dt, C, PF, E0, S0, A1, A2, G1, G2, R, acc, iE, iF1, iF2, iF3, mhd,
+                 gamma_c, vm, d_perp, feedback, iso, e_floor, tight, area1, rvol1, vol1, dx2,
+                 js, je, is_, ie):
+    """The module's part of a stage after the core's cell update, on ``U``.
 
+    First the conservative entropy update replaces the advective part of the
+    E_c update (see the module docstring; ``E0``, ``S0``: E_c and
+    E_c^(1/gamma_c) at the start of the step, ``A``/``G`` the advective and
+    entropy fluxes) and the difference goes to the gas energy; then the R/x
+    flux divergence of ``F_1`` and the implicit coupling.  ``F2[iF2]`` holds
+    the axis-2 fluxes of ``F_2`` (for ``X_ad``); ``d_perp`` is ``D`` across
+    the field, ``rvol1 = 1/vol1``.  With ``tight`` (no diffusion, no
+    streaming) E_c keeps its adiabatic value (the residual work, O(P_c / (rho
+    V_m^2)) of the adiabatic one, is dropped), the gas gets the impulse, and
+    the flux is set to ``gamma_c E_c v`` of the new state.  Returns
+    ``(streaming heating, energy added by the floor)`` summed over the cells
+    with their volumes (per radian in cylindrical geometry).  ``R`` is a work
+    array ``[8, nt1]`` (intermediate values of a row, ``dt / vol1`` and the
+    unit field vector), ``acc`` one ``[2, nt1]`` (per-column sums, so the cell
+    loops have no scalar reduction).
 
-@njit(cache=True, error_model="numpy")
-def couple(W, U, C, PF, F2, acc, iE, iF1, iF2, iF3, gamma_c, vm, d_perp, dt, feedback, iso,
-           e_floor, tight, area1, rvol1, vol1, dx2, js, je, is_, ie):
-    """Apply the R/x flux divergence of ``F_1`` and the implicit coupling to ``U``.
-
-    ``F2[iF2]`` holds the axis-2 fluxes of ``F_2`` (for ``X_ad``); ``d_perp`` is
-    ``D`` across the field, ``rvol1 = 1/vol1``.  With ``tight`` (no diffusion,
-    no streaming) E_c keeps its adiabatic value from :func:`entropy_update` (the
-    residual work, O(P_c / (rho V_m^2)) of the adiabatic one, is dropped), the gas
-    gets the impulse, and the flux is set to ``gamma_c E_c v`` of the new state.  Returns ``(streaming heating, energy
-    added by the floor)`` summed over the cells with their volumes (per radian
-    in cylindrical geometry).  ``acc`` is a work array ``[2, nt1]`` (per-column
-    sums, so the cell loop has no scalar reduction).
+    Each row runs as a few branch-free loops over ``i`` that each touch few
+    arrays (so that they vectorise): entropy and advective updates, the
+    power ``s ** gamma_c`` of the entropy (:func:`pow43` for gamma_c = 4/3,
+    bitwise equal to the library ``pow``, which it calls only where it
+    cannot vouch for the last bit), the transport increment of ``F_1``, the
+    implicit solve, then the gas energy and the tallies.
     """
     vm2 = vm * vm
     vm2c = vm2 * (gamma_c - 1.0)
     rvm2 = 1.0 / vm2
     a = vm2 * dt
     gdt = gamma_c * dt if feedback else 0.0      # the gas inertia term k (none if frozen)
-    for i in range(u(is_), u(ie)):
+    egas = feedback and not iso
+    ft = gamma_c == FOUR_THIRDS
+    ia = u(is_)
+    ib = u(ie)
+    for i in range(ia, ib):
         acc[0, i] = 0.0
         acc[1, i] = 0.0
+        R[4, i] = dt / vol1[i]
+        # the unit field vector b (rows 5-7; recomputed per row with a field)
+        R[5, i] = 1.0
+        R[6, i] = 0.0
+        R[7, i] = 0.0
     for j in range(u(js), u(je)):
         r2 = dt / dx2[j]
-        for i in range(u(is_), u(ie)):
+        # conservative entropy (R[0]) and advective part of E_c (R[1])
+        for i in range(ia, ib):
+            rv = R[4, i]
+            R[0, i] = (S0[j, i] - rv * (area1[i + ONE] * G1[j, i + ONE] - area1[i] * G1[j, i])
+                       - r2 * (G2[j + ONE, i] - G2[j, i]))
+            R[1, i] = (E0[j, i] - rv * (area1[i + ONE] * A1[j, i + ONE] - area1[i] * A1[j, i])
+                       - r2 * (A2[j + ONE, i] - A2[j, i]))
+        # the change of E_c that replaces the advective part (R[0]): s ** gamma_c - R[1]
+        if ft:
+            # vectorised pow43 into R[2], flags in R[3]; pow only where flagged
+            for i in range(ia, ib):
+                s = R[0, i]
+                y, exact = pow43(s)
+                pos = s > 0.0
+                R[2, i] = y if pos else 0.0
+                R[3, i] = 1.0 if pos & (not exact) else 0.0
+            for i in range(ia, ib):
+                if R[3, i] != 0.0:
+                    R[2, i] = R[0, i] ** gamma_c
+            for i in range(ia, ib):
+                R[0, i] = R[2, i] - R[1, i]
+        else:
+            for i in range(ia, ib):
+                s = R[0, i]
+                R[0, i] = (s ** gamma_c if s > 0.0 else 0.0) - R[1, i]
+        if mhd:
+            # b = B / |B| ((1, 0, 0) where B = 0), as in transport.interaction: bitwise
+            # the same; recomputing it costs less than storing it in the sweep
+            for i in range(ia, ib):
+                b1 = W[IB1, j, i]
+                b2 = W[IB2, j, i]
+                b3 = W[IB3, j, i]
+                bb = math.sqrt(b1 * b1 + b2 * b2 + b3 * b3)
+                has = bb > 0.0
+                rb = 1.0 / (bb if has else 1.0)
+                R[5, i] = b1 * rb if has else 1.0
+                R[6, i] = b2 * rb
+                R[7, i] = b3 * rb
+        # pressure-balanced R/x divergence of F_1: F_1* (R[1]), X_ad . v (R[2]), 1/rho (R[3])
+        for i in range(ia, ib):
             pc = vm2c * W[iE, j, i]
             d1 = -dt * (area1[i + ONE] * (PF[j, i + ONE] - pc)
                         - area1[i] * (PF[j, i] - pc)) * rvol1[i]
-            f1 = U[iF1, j, i] + d1
-            e = U[iE, j, i]
-            f2 = U[iF2, j, i]
-            f3 = U[iF3, j, i]
             rd = 1.0 / U[IDN, j, i]
             v1 = U[IM1, j, i] * rd
             v2 = U[IM2, j, i] * rd
-            v3 = U[IM3, j, i] * rd
+            R[3, i] = rd
+            R[1, i] = U[iF1, j, i] + d1
             # transport impulse X_ad = (F* - F^n) / V_m^2 (no flux for the phi component)
-            vxa = (d1 * v1 - r2 * (F2[iF2, j + ONE, i] - F2[iF2, j, i]) * v2) * rvm2
-            n1 = C[CB1, j, i]
-            n2 = C[CB2, j, i]
-            n3 = C[CB3, j, i]
+            R[2, i] = (d1 * v1 - r2 * (F2[iF2, j + ONE, i] - F2[iF2, j, i]) * v2) * rvm2
+        # implicit solve; E_c, gas momentum and flux updated in place
+        for i in range(ia, ib):
+            dent = R[0, i]
+            f1 = R[1, i]
+            vxa = R[2, i]
+            e = U[iE, j, i] + dent
+            f2 = U[iF2, j, i]
+            f3 = U[iF3, j, i]
+            rd = R[3, i]
+            m1 = U[IM1, j, i]
+            m2 = U[IM2, j, i]
+            m3 = U[IM3, j, i]
+            v1 = m1 * rd
+            v2 = m2 * rd
+            v3 = m3 * rd
+            n1 = R[5, i]
+            n2 = R[6, i]
+            n3 = R[7, i]
             ak = a + gdt * (e if e > 0.0 else 0.0) * rd
             mp = dt / (C[CDPAR, j, i] + ak)
             mq = dt / (d_perp + ak)
@@ -165,29 +324,34 @@ def couple(W, U, C, PF, F2, acc, iE, iF1, iF2, iF3, gamma_c, vm, d_perp, dt, fee
             enew = e + de
             low = e_floor - enew
             low = low if low > 0.0 else 0.0
-            enew += low
-            U[iE, j, i] = enew
-            if feedback:
-                U[IM1, j, i] += x1
-                U[IM2, j, i] += x2
-                U[IM3, j, i] += x3
-                if not iso:
-                    U[IEN, j, i] -= de
-            if tight:
-                qn = gamma_c * enew / U[IDN, j, i]
+            U[iE, j, i] = enew + low
+            U[IM1, j, i] = m1 + x1 if feedback else m1
+            U[IM2, j, i] = m2 + x2 if feedback else m2
+            U[IM3, j, i] = m3 + x3 if feedback else m3
+            U[iF1, j, i] = f1 - vm2 * x1
+            U[iF2, j, i] = f2 - vm2 * x2
+            U[iF3, j, i] = f3 - vm2 * x3
+            R[1, i] = de
+            R[2, i] = hs
+            R[3, i] = low
+        if tight:
+            for i in range(ia, ib):
+                qn = gamma_c * U[iE, j, i] / U[IDN, j, i]
                 U[iF1, j, i] = qn * U[IM1, j, i]
                 U[iF2, j, i] = qn * U[IM2, j, i]
                 U[iF3, j, i] = qn * U[IM3, j, i]
-            else:
-                U[iF1, j, i] = f1 - vm2 * x1
-                U[iF2, j, i] = f2 - vm2 * x2
-                U[iF3, j, i] = f3 - vm2 * x3
-            vol = vol1[i] * dx2[j]
-            acc[0, i] += hs * vol
-            acc[1, i] += low * vol
+        if egas:
+            # the entropy correction and the exchange, in this order
+            for i in range(ia, ib):
+                U[IEN, j, i] = (U[IEN, j, i] - R[0, i]) - R[1, i]
+        dz = dx2[j]
+        for i in range(ia, ib):
+            vol = vol1[i] * dz
+            acc[0, i] += R[2, i] * vol
+            acc[1, i] += R[3, i] * vol
     heat = 0.0
     added = 0.0
-    for i in range(u(is_), u(ie)):
+    for i in range(ia, ib):
         heat += acc[0, i]
         added += acc[1, i]
     return heat, added

@@ -71,18 +71,15 @@ from ...problem.units import M_H_CGS, UnitSystem
 from ...state import IV1, IV2, IV3
 from ..base import ORDER_TRANSPORT, Module, Variable
 from ..registry import register
-from .coupling import couple, entropy_update
+from .coupling import stage_update
 from .losses import apply_losses
 from .transport import (
     CDPAR,
     CGRAD,
     CVS,
     NCOEF,
-    fluxes1,
-    fluxes2,
     interaction,
-    specific_entropy,
-    start_values,
+    stage_fluxes,
     tight_signal_rate,
 )
 
@@ -205,6 +202,13 @@ class CosmicRays(Module):
     tally_kinds = {"cr_streaming_heating": "energy", "cr_loss_heating": "energy",
                    "cr_loss_escaped": "energy", "cr_floor_energy": "energy"}
 
+    def __new__(cls, params=None, context=None):
+        # Only a run with losses gets the split hook: every module with a split hook
+        # costs the step one more conversion of the whole state to primitives (with
+        # ghost cells), about a tenth of an MHD step, done in vain without losses.
+        with_losses = cls is CosmicRays and _has_losses(params)
+        return super().__new__(CosmicRaysWithLosses if with_losses else cls)
+
     def __init__(self, params: CosmicRayParams, context=None):
         """``params``: the validated ``physics.cosmic_rays`` section (code units);
         ``context`` needs ``geometry`` and, for losses, ``units`` (see
@@ -282,23 +286,53 @@ class CosmicRays(Module):
             raise ParameterError(f"{HERE}.diffusion: without a magnetic field diffusion is "
                                  "isotropic: give 'isotropic' instead of 'parallel'/"
                                  "'perpendicular'")
+        # work arrays, allocated once (the step allocates nothing)
         self.C = np.zeros((NCOEF, m.nt2, m.nt1))
         self.PF = np.zeros((m.nt2, m.nt1 + 1))
         self.acc = np.zeros((2, m.nt1))
+        self.R = np.zeros((8, m.nt1))
         # 1 / (x_{k+1} - x_{k-1}) of the centres (mirrored behind walls) for gradients,
         # from the integrator's reconstruction tables
         self.rdx1c = np.ascontiguousarray(sim.integrator.g1[G_IDC])
         self.rdx2c = np.ascontiguousarray(sim.integrator.g2[G_IDC])
         self.rvol1 = 1.0 / m.vol1
+        # slopes of one row (axis 1) and of two rows (axis 2)
+        self.S1 = np.zeros((5, m.nt1))
         self.SB = np.zeros((2, 5, m.nt1))
-        # advective and entropy fluxes, specific entropy, E_c and entropy at step start
+        # advective and entropy fluxes
         self.A1 = np.zeros((m.nt2, m.nt1 + 1))
         self.G1 = np.zeros((m.nt2, m.nt1 + 1))
         self.A2 = np.zeros((m.nt2 + 1, m.nt1))
         self.G2 = np.zeros((m.nt2 + 1, m.nt1))
-        self.T = np.zeros((m.nt2, m.nt1))
+        # per-cell values of three rows (specific entropy and enthalpy, comoving fluxes)
+        self.CV = np.zeros((3, 4, m.nt1))
+        # optical depths along both axes of two rows (and scratch rows)
+        self.TB = np.zeros((2, 6, m.nt1))
+        # E_c and entropy at step start
         self.E0 = np.zeros((m.nt2, m.nt1))
         self.S0 = np.zeros((m.nt2, m.nt1))
+        # the flux rows of the components that carry no flux (the tangential ones and,
+        # on axis 1, the normal one, applied from PF in stage_source) stay zero: only
+        # this module writes fluxes of its variables
+        F1, F2 = sim.integrator.F1, sim.integrator.F2
+        for k in (self.iF1, self.iF2, self.iF3):
+            F1[k] = 0.0
+        F2[self.iF1] = 0.0
+        F2[self.iF3] = 0.0
+        # the arguments of the two kernels that stay the same from call to call
+        it = sim.integrator
+        self._flux_args = (self.C, self.CV, self.TB, self.E0, self.S0, self.PF, self.A1, self.G1,
+                           self.A2, self.G2, self.S1, self.SB, self.iE, self.iF1, self.iF2,
+                           self.mhd, self.gamma_c, self.vm, self.d_par, self.d_perp,
+                           self.streaming, self.stream_coef, bool(p.thick_speed_reduction),
+                           self.rdx1c, self.rdx2c, m.dx1, m.dx2, it.g1, it.g2,
+                           m.js, m.je, m.is_, m.ie)
+        self._update_args = (self.C, self.PF, self.E0, self.S0, self.A1, self.A2, self.G1,
+                             self.G2, self.R, self.acc, self.iE, self.iF1, self.iF2, self.iF3,
+                             self.mhd, self.gamma_c, self.vm, self.d_perp,
+                             bool(p.gas_feedback), bool(sim.eos.isothermal),
+                             float(p.energy_floor), self.tight, m.area1, self.rvol1, m.vol1,
+                             m.dx2, m.js, m.je, m.is_, m.ie)
         dx = min(float(m.dx1[m.is_:m.ie].min()), float(m.dx2[m.js:m.je].min()))
         self._dt = sim.integrator.courant * dx / (self.vm * math.sqrt(self.gamma_c - 1.0))
 
@@ -337,43 +371,14 @@ class CosmicRays(Module):
                     m.js - ring, m.je + ring, m.is_ - ring, m.ie + ring)
 
     def add_fluxes(self, sim, W, b1, b2, F1, F2, stage) -> None:
-        m, it = sim.mesh, sim.integrator
-        self._coefficients(sim, W, 1)
-        specific_entropy(W, self.T, self.iE, self.gamma_c, 0, m.nt2, 0, m.nt1)
-        if stage == 0:
-            start_values(W, self.E0, self.S0, self.iE, self.gamma_c, m.js, m.je, m.is_, m.ie)
-        lim = it.limiter if stage == 1 else 0
-        red = bool(self.params.thick_speed_reduction)
-        fluxes1(W, self.T, self.C, F1, self.PF, self.A1, self.G1, self.SB, self.iE, self.iF1,
-                self.iF2, self.iF3, self.gamma_c, self.vm, red, lim, it.g1, m.js, m.je,
-                m.is_, m.ie)
-        fluxes2(W, self.T, self.C, F2, self.A2, self.G2, self.SB, self.iE, self.iF2, self.iF1,
-                self.iF3, self.gamma_c, self.vm, red, lim, it.g2, m.js, m.je, m.is_, m.ie)
+        lim = sim.integrator.limiter if stage == 1 else 0
+        stage_fluxes(W, F1, F2, lim, stage == 0, *self._flux_args)
 
     def stage_source(self, sim, W, U_out, F1, F2, dt, stage) -> None:
-        m = sim.mesh
-        fb, iso = bool(self.params.gas_feedback), sim.eos.isothermal
-        entropy_update(U_out, self.E0, self.S0, self.A1, self.A2, self.G1, self.G2, self.iE,
-                       self.gamma_c, float(dt), fb, iso, m.area1, m.vol1, m.dx2, m.js, m.je,
-                       m.is_, m.ie)
-        heat, added = couple(W, U_out, self.C, self.PF, F2, self.acc, self.iE, self.iF1,
-                             self.iF2, self.iF3, self.gamma_c, self.vm, self.d_perp,
-                             float(dt), fb, iso, float(self.params.energy_floor), self.tight,
-                             m.area1, self.rvol1, m.vol1, m.dx2, m.js, m.je, m.is_, m.ie)
+        heat, added = stage_update(W, U_out, F2, float(dt), *self._update_args)
         if stage == 1:
             self.tallies["cr_streaming_heating"] += heat
             self.tallies["cr_floor_energy"] += added
-
-    def split_source(self, sim, dt) -> None:
-        if self._loss is None:
-            return
-        m = sim.mesh
-        rc, rh, fh = self._loss
-        heat, lost = apply_losses(sim.state.U, self.iE, rc, rh, fh, float(dt),
-                                  bool(self.params.gas_feedback), sim.eos.isothermal,
-                                  m.vol1, m.dx2, m.js, m.je, m.is_, m.ie)
-        self.tallies["cr_loss_heating"] += heat
-        self.tallies["cr_loss_escaped"] += lost
 
     # ------------------------------------------------------------ output
     def derived_fields(self, sim):
@@ -400,4 +405,23 @@ class CosmicRays(Module):
         return self.history(sim)["cr_energy"][0]
 
 
-__all__ = ["CosmicRays", "CosmicRayParams"]
+class CosmicRaysWithLosses(CosmicRays):
+    """:class:`CosmicRays` with collisional losses (built by ``CosmicRays(...)`` when
+    ``losses`` switches one on): adds the split step of the losses."""
+
+    def split_source(self, sim, dt) -> None:
+        m = sim.mesh
+        rc, rh, fh = self._loss
+        heat, lost = apply_losses(sim.state.U, self.iE, rc, rh, fh, float(dt),
+                                  bool(self.params.gas_feedback), sim.eos.isothermal,
+                                  m.vol1, m.dx2, m.js, m.je, m.is_, m.ie)
+        self.tallies["cr_loss_heating"] += heat
+        self.tallies["cr_loss_escaped"] += lost
+
+
+def _has_losses(params) -> bool:
+    L = getattr(params, "losses", None)
+    return L is not None and bool(L.coulomb or L.hadronic)
+
+
+__all__ = ["CosmicRayParams", "CosmicRays", "CosmicRaysWithLosses"]
