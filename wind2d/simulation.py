@@ -154,6 +154,10 @@ class Simulation:
         self.integrator.modules = self.modules
         self.integrator.owner = self
         for mod in self.modules:
+            if mod.updates_own_variables:
+                for v in mod.variables:
+                    self.integrator.own[self.varmap.index[v.name]] = 1
+        for mod in self.modules:
             mod.attach(self)
 
     # --------------------------------------------------------------- setup

@@ -16,7 +16,9 @@ geometry, 1 in Cartesian), volume ``V`` and axis-2 width ``dz``:
 * B_phi: ``dB_phi/dt = -(F_+ - F_-)/dR - (G_+ - G_-)/dz`` (no R weight: the
   induction equation for B_phi is a plain divergence in (R, z)).
 
-``B1``, ``B2`` cell slots are skipped: they follow from the face fields.
+``B1``, ``B2`` cell slots are skipped: they follow from the face fields, and so
+are variables whose ``own[v]`` is non-zero: a physics module updates them itself
+(``Module.updates_own_variables``).
 """
 from numba import njit
 
@@ -48,14 +50,15 @@ def _rate(v, j, i, W, F1, F2, area1, h1f, h1c, vol1, geo1, dx1, dx2, cyl, mhd):
 
 @njit(cache=True, error_model="numpy")
 def update_cells(U0, U1, W, F1, F2, dt, area1, h1f, h1c, vol1, geo1, dx1, dx2,
-                 cyl, mhd, iso, js, je, is_, ie):
-    """``U1 = U0 - dt * div F + dt * S`` on the interior, with fluxes ``F1``, ``F2``.
+                 cyl, mhd, iso, own, js, je, is_, ie):
+    """``U1 = U0 - dt * div F + dt * S`` on the interior, with fluxes ``F1``, ``F2``,
+    for every variable ``v`` with ``own[v] == 0``.
 
     One loop nest per kind of variable, so the inner loops carry no branches.
     """
     nv = U0.shape[0]
     for v in range(nv):
-        if (mhd and (v == IB1 or v == IB2)) or (iso and v == IEN):
+        if (mhd and (v == IB1 or v == IB2)) or (iso and v == IEN) or own[v] != 0:
             continue
         for j in range(u(js), u(je)):
             r2 = dt / dx2[j]
@@ -83,7 +86,7 @@ def update_cells(U0, U1, W, F1, F2, dt, area1, h1f, h1c, vol1, geo1, dx1, dx2,
 
 @njit(cache=True, error_model="numpy")
 def update_flagged(U0, U1, W, F1, F2, dt, area1, h1f, h1c, vol1, geo1, dx1, dx2,
-                   cyl, mhd, iso, flags, js, je, is_, ie):
+                   cyl, mhd, iso, own, flags, js, je, is_, ie):
     """As ``update_cells`` but only for cells with a non-zero flag."""
     nv = U0.shape[0]
     for j in range(u(js), u(je)):
@@ -91,7 +94,7 @@ def update_flagged(U0, U1, W, F1, F2, dt, area1, h1f, h1c, vol1, geo1, dx1, dx2,
             if flags[j, i] == 0:
                 continue
             for v in range(nv):
-                if (mhd and (v == IB1 or v == IB2)) or (iso and v == IEN):
+                if (mhd and (v == IB1 or v == IB2)) or (iso and v == IEN) or own[v] != 0:
                     continue
                 U1[v, j, i] = U0[v, j, i] - dt * _rate(v, j, i, W, F1, F2, area1, h1f, h1c,
                                                        vol1, geo1, dx1, dx2, cyl, mhd)

@@ -11,7 +11,8 @@ are allocated once here; a step allocates no full-grid temporaries.
 
 Physics modules (``self.modules``, set by the Simulation; the core knows only
 their hooks) act inside each stage: ``add_fluxes`` after the core fluxes,
-``stage_source`` after the cell update (see wind2d/physics/base.py).
+``stage_source`` after the cell update (see wind2d/physics/base.py).  The cell
+update skips the variables of modules that update them themselves (``own``).
 """
 from __future__ import annotations
 
@@ -59,6 +60,8 @@ class Integrator:
         # first-order fallback must agree on the fluxes through them
         self.shared_edges = any(boundaries.edges[e][0] in ("periodic", "exchange")
                                 for e in ("x1_lo", "x1_hi", "x2_lo", "x2_hi"))
+        # own[v] = 1: a physics module updates variable v itself (the core skips it)
+        self.own = np.zeros(nv, dtype=np.int8)
         self.modules = []           # physics modules, in acting order
         self.owner = None           # the Simulation handed to module hooks
 
@@ -112,7 +115,7 @@ class Integrator:
         m = self.mesh
         update_cells(st.U, out.U, self.W, self.F1, self.F2, dt, m.area1, m.h1f, m.h1c,
                      m.vol1, m.geo1, m.dx1, m.dx2, m.cylindrical, self.mhd,
-                     self.eos.isothermal, m.js, m.je, m.is_, m.ie)
+                     self.eos.isothermal, self.own, m.js, m.je, m.is_, m.ie)
 
     def _fallback(self, st: State, out: State, dt: float) -> None:
         m = self.mesh
@@ -127,7 +130,7 @@ class Integrator:
                                  m.js, m.je, m.is_, m.ie)
         update_flagged(st.U, out.U, self.W, self.F1, self.F2, dt, m.area1, m.h1f, m.h1c,
                        m.vol1, m.geo1, m.dx1, m.dx2, m.cylindrical, self.mhd, iso,
-                       self.flags, m.js, m.je, m.is_, m.ie)
+                       self.own, self.flags, m.js, m.je, m.is_, m.ie)
         self.counters[floors.FALLBACK] += nbad
 
     def _ghost_flags(self) -> int:

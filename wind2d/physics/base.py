@@ -15,7 +15,8 @@ Order within a step (see docs/plugins.md)
    a. ``add_fluxes`` of each module (fluxes of its own variables; it may
       also add to gas fluxes);
    b. the core updates cells and faces (``U_out = U_in - dt div F`` plus
-      the geometric sources, for every variable, module variables included);
+      the geometric sources, for every variable, module variables included
+      unless their module sets ``updates_own_variables``);
    c. ``stage_source`` of each module adds ``dt * S(W)`` to ``U_out`` with
       the stage's primitives ``W`` and mass fluxes (gravity, the pressure
       source of a module's own vector variables).
@@ -90,6 +91,14 @@ class Module:
         Position in each hook (see the module docstring).
     variables : tuple of Variable
         Cell variables the module owns (often empty).
+    updates_own_variables : bool
+        False (default): the core's cell update applies the divergence of the
+        fluxes the module gave in ``add_fluxes`` to its variables.  True: the
+        core leaves them alone and ``stage_source`` must set them in
+        ``U_out`` itself, from the state at the start of the step
+        (``sim.state.U``: both stages start from it) and its own fluxes; for a
+        module that needs the updated values only as inputs of its own
+        update, this saves a pass over its variables.
 
     The instance is built by ``Module(params, context)`` before the
     simulation exists; :meth:`attach` then hands it the simulation.
@@ -102,6 +111,7 @@ class Module:
     Params: ClassVar[type[BaseModel]] = NoParams
     order: ClassVar[int] = ORDER_INJECTION
     variables: ClassVar[tuple[Variable, ...]] = ()
+    updates_own_variables: ClassVar[bool] = False
 
     def __init__(self, params: BaseModel, context: Any):
         self.params = params

@@ -182,18 +182,20 @@ def pow43(s):
 
 
 @njit(cache=True, error_model="numpy")
-def stage_update(W, U, F2, dt, C, PF, E0, S0, A1, A2, G1, G2, R, acc, iE, iF1, iF2, iF3, mhd,
-                 gamma_c, vm, d_perp, feedback, iso, e_floor, tight, area1, rvol1, vol1, dx2,
-                 js, je, is_, ie):
-    """The module's part of a stage after the core's cell update, on ``U``.
+def stage_update(W, U0, U, F1, F2, dt, C, PF, S0, A1, A2, G1, G2, R, acc, iE, iF1, iF2, iF3,
+                 mhd, gamma_c, vm, d_perp, feedback, iso, e_floor, tight, area1, rvol1, vol1,
+                 dx2, js, je, is_, ie):
+    """The module's part of a stage after the core's cell update: its variables
+    from the start of the step ``U0`` into ``U`` (the core skips them), and the
+    exchange with the gas in ``U``.
 
-    First the conservative entropy update replaces the advective part of the
-    E_c update (see the module docstring; ``E0``, ``S0``: E_c and
-    E_c^(1/gamma_c) at the start of the step, ``A``/``G`` the advective and
-    entropy fluxes) and the difference goes to the gas energy; then the R/x
-    flux divergence of ``F_1`` and the implicit coupling.  ``F2[iF2]`` holds
-    the axis-2 fluxes of ``F_2`` (for ``X_ad``); ``d_perp`` is ``D`` across
-    the field, ``rvol1 = 1/vol1``.  With ``tight`` (no diffusion, no
+    First the flux divergence of E_c (``F1[iE]``, ``F2[iE]``) and of ``F_2``
+    (``F2[iF2]``, also used for ``X_ad``); then the conservative entropy
+    update replaces the advective part of the E_c update (see the module
+    docstring; ``S0``: E_c^(1/gamma_c) at the start of the step, ``A``/``G``
+    the advective and entropy fluxes) and the difference goes to the gas
+    energy; then the R/x flux divergence of ``F_1`` and the implicit
+    coupling.  ``d_perp`` is ``D`` across the field, ``rvol1 = 1/vol1``.  With ``tight`` (no diffusion, no
     streaming) E_c keeps its adiabatic value (the residual work, O(P_c / (rho
     V_m^2)) of the adiabatic one, is dropped), the gas gets the impulse, and
     the flux is set to ``gamma_c E_c v`` of the new state.  Returns
@@ -229,12 +231,21 @@ def stage_update(W, U, F2, dt, C, PF, E0, S0, A1, A2, G1, G2, R, acc, iE, iF1, i
         R[7, i] = 0.0
     for j in range(u(js), u(je)):
         r2 = dt / dx2[j]
+        # flux divergences of E_c and F_2 (F_1 below, F_3 has no flux), written as
+        # the core writes its cell update
+        for i in range(ia, ib):
+            U[iE, j, i] = (U0[iE, j, i]
+                           - dt * (area1[i + ONE] * F1[iE, j, i + ONE]
+                                   - area1[i] * F1[iE, j, i]) / vol1[i]
+                           - r2 * (F2[iE, j + ONE, i] - F2[iE, j, i]))
+            U[iF2, j, i] = U0[iF2, j, i] - r2 * (F2[iF2, j + ONE, i] - F2[iF2, j, i])
         # conservative entropy (R[0]) and advective part of E_c (R[1])
         for i in range(ia, ib):
             rv = R[4, i]
             R[0, i] = (S0[j, i] - rv * (area1[i + ONE] * G1[j, i + ONE] - area1[i] * G1[j, i])
                        - r2 * (G2[j + ONE, i] - G2[j, i]))
-            R[1, i] = (E0[j, i] - rv * (area1[i + ONE] * A1[j, i + ONE] - area1[i] * A1[j, i])
+            R[1, i] = (U0[iE, j, i]
+                       - rv * (area1[i + ONE] * A1[j, i + ONE] - area1[i] * A1[j, i])
                        - r2 * (A2[j + ONE, i] - A2[j, i]))
         # the change of E_c that replaces the advective part (R[0]): s ** gamma_c - R[1]
         if ft:
@@ -276,7 +287,7 @@ def stage_update(W, U, F2, dt, C, PF, E0, S0, A1, A2, G1, G2, R, acc, iE, iF1, i
             v1 = U[IM1, j, i] * rd
             v2 = U[IM2, j, i] * rd
             R[3, i] = rd
-            R[1, i] = U[iF1, j, i] + d1
+            R[1, i] = U0[iF1, j, i] + d1
             # transport impulse X_ad = (F* - F^n) / V_m^2 (no flux for the phi component)
             R[2, i] = (d1 * v1 - r2 * (F2[iF2, j + ONE, i] - F2[iF2, j, i]) * v2) * rvm2
         # implicit solve; E_c, gas momentum and flux updated in place
@@ -286,7 +297,7 @@ def stage_update(W, U, F2, dt, C, PF, E0, S0, A1, A2, G1, G2, R, acc, iE, iF1, i
             vxa = R[2, i]
             e = U[iE, j, i] + dent
             f2 = U[iF2, j, i]
-            f3 = U[iF3, j, i]
+            f3 = U0[iF3, j, i]
             rd = R[3, i]
             m1 = U[IM1, j, i]
             m2 = U[IM2, j, i]

@@ -199,6 +199,7 @@ class CosmicRays(Module):
 
     Params = CosmicRayParams
     order = ORDER_TRANSPORT
+    updates_own_variables = True      # stage_update applies the flux divergences
     tally_kinds = {"cr_streaming_heating": "energy", "cr_loss_heating": "energy",
                    "cr_loss_escaped": "energy", "cr_floor_energy": "energy"}
 
@@ -308,12 +309,11 @@ class CosmicRays(Module):
         self.CV = np.zeros((3, 4, m.nt1))
         # optical depths along both axes of two rows (and scratch rows)
         self.TB = np.zeros((2, 6, m.nt1))
-        # E_c and entropy at step start
-        self.E0 = np.zeros((m.nt2, m.nt1))
+        # entropy at step start
         self.S0 = np.zeros((m.nt2, m.nt1))
         # the flux rows of the components that carry no flux (the tangential ones and,
-        # on axis 1, the normal one, applied from PF in stage_source) stay zero: only
-        # this module writes fluxes of its variables
+        # on axis 1, the normal one, applied from PF in stage_source) are not used (the
+        # module updates its variables itself); zero, for whoever reads face fluxes
         F1, F2 = sim.integrator.F1, sim.integrator.F2
         for k in (self.iF1, self.iF2, self.iF3):
             F1[k] = 0.0
@@ -321,13 +321,13 @@ class CosmicRays(Module):
         F2[self.iF3] = 0.0
         # the arguments of the two kernels that stay the same from call to call
         it = sim.integrator
-        self._flux_args = (self.C, self.CV, self.TB, self.E0, self.S0, self.PF, self.A1, self.G1,
+        self._flux_args = (self.C, self.CV, self.TB, self.S0, self.PF, self.A1, self.G1,
                            self.A2, self.G2, self.S1, self.SB, self.iE, self.iF1, self.iF2,
                            self.mhd, self.gamma_c, self.vm, self.d_par, self.d_perp,
                            self.streaming, self.stream_coef, bool(p.thick_speed_reduction),
                            self.rdx1c, self.rdx2c, m.dx1, m.dx2, it.g1, it.g2,
                            m.js, m.je, m.is_, m.ie)
-        self._update_args = (self.C, self.PF, self.E0, self.S0, self.A1, self.A2, self.G1,
+        self._update_args = (self.C, self.PF, self.S0, self.A1, self.A2, self.G1,
                              self.G2, self.R, self.acc, self.iE, self.iF1, self.iF2, self.iF3,
                              self.mhd, self.gamma_c, self.vm, self.d_perp,
                              bool(p.gas_feedback), bool(sim.eos.isothermal),
@@ -375,7 +375,9 @@ class CosmicRays(Module):
         stage_fluxes(W, F1, F2, lim, stage == 0, *self._flux_args)
 
     def stage_source(self, sim, W, U_out, F1, F2, dt, stage) -> None:
-        heat, added = stage_update(W, U_out, F2, float(dt), *self._update_args)
+        # both stages start from the state at the start of the step, sim.state
+        heat, added = stage_update(W, sim.state.U, U_out, F1, F2, float(dt),
+                                   *self._update_args)
         if stage == 1:
             self.tallies["cr_streaming_heating"] += heat
             self.tallies["cr_floor_energy"] += added

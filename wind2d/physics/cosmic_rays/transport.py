@@ -239,10 +239,8 @@ def _cell_row(W, V, j, n, iE, iF1, iF2, gamma_c, ft):
 
 
 @njit(cache=True, error_model="numpy", inline="always")
-def _start_row(W, E0, S0, j, i0, i1, iE, gamma_c, ft):
-    # E_c and its entropy E_c^(1/gamma_c) at the start of the step
-    for i in range(i0, i1):
-        E0[j, i] = W[iE, j, i]
+def _start_row(W, S0, j, i0, i1, iE, gamma_c, ft):
+    # the entropy E_c^(1/gamma_c) at the start of the step
     if ft:
         for i in range(i0, i1):
             S0[j, i] = entropy(W[iE, j, i], gamma_c, True)
@@ -321,7 +319,7 @@ def _face(e0, f0, g0, h0, s0, e1, f1, g1, h1, s1, le, lf, lg, lh, ls, re, rf, rg
 
 
 @njit(cache=True, error_model="numpy")
-def stage_fluxes(W, F1, F2, limiter, first, C, CV, TB, E0, S0, PF, A1, G1, A2, G2, S1, S2, iE,
+def stage_fluxes(W, F1, F2, limiter, first, C, CV, TB, S0, PF, A1, G1, A2, G2, S1, S2, iE,
                  iF1, iF2, mhd, gamma_c, vm, d_par, d_perp, streaming, stream_coef, reduce,
                  rdx1c, rdx2c, dx1, dx2, geo1, geo2, js, je, is_, ie):
     """Everything a stage needs before the core's cell update, in one sweep over rows.
@@ -329,7 +327,7 @@ def stage_fluxes(W, F1, F2, limiter, first, C, CV, TB, E0, S0, PF, A1, G1, A2, G
     Per row: the per-cell values the faces reconstruct (``CV[row % 3]``: specific
     entropy ``E_c^(1/gamma_c) / rho``, specific enthalpy ``gamma_c E_c / rho``,
     comoving fluxes ``F_k - gamma_c E_c v_k``; three rows kept), on the first
-    stage the start values ``E0``, ``S0`` (interior), the interaction
+    stage the start entropy ``S0`` (interior), the interaction
     coefficients (:func:`interaction`, one ring of ghosts; into ``C`` the slots
     ``CDPAR`` and ``CVS`` that :func:`~.coupling.stage_update` needs, the optical
     depths of two rows into ``TB`` ``[2, 6, nt1]``, whose other rows take what
@@ -342,8 +340,7 @@ def stage_fluxes(W, F1, F2, limiter, first, C, CV, TB, E0, S0, PF, A1, G1, A2, G
       ``E_c^(1/gamma_c)``, ``PF`` the flux of ``F_1`` (applied by
       :func:`~.coupling.stage_update` in pressure-balanced form);
     * axis 2 (z or y), faces ``js <= j <= je``, columns ``is_ <= i < ie``:
-      ``F2[iE]``, ``F2[iF2]`` (the core applies their plain divergence),
-      ``A2``, ``G2``.
+      ``F2[iE]``, ``F2[iF2]`` (plain divergence), ``A2``, ``G2``.
 
     The other flux rows of the three components (``F1[iF1]``, ``F1[iF2]``,
     ``F1[iF3]``, ``F2[iF1]``, ``F2[iF3]``) must be zero; the module zeroes them
@@ -364,7 +361,7 @@ def stage_fluxes(W, F1, F2, limiter, first, C, CV, TB, E0, S0, PF, A1, G1, A2, G
     for j in range(ja - ONE - ONE, jb + ONE + ONE):
         _cell_row(W, CV[j % u(3)], j, n, iE, iF1, iF2, gamma_c, ft)
         if first and ja <= j and j < jb:
-            _start_row(W, E0, S0, j, ia, ib, iE, gamma_c, ft)
+            _start_row(W, S0, j, ia, ib, iE, gamma_c, ft)
         if j < ja:
             continue
         r = j - ONE                       # js - 1 <= r <= je: coefficients, slopes
