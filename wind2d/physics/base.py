@@ -70,7 +70,8 @@ class Variable:
 
     Module variables are stored as conserved densities (not per unit mass):
     the primitive slot ``W[v]`` equals ``U[v]``.  The core does not advect them;
-    their fluxes come from the module's ``add_fluxes`` (zero otherwise).
+    their fluxes come from the module's ``add_fluxes`` (zero otherwise), or the
+    module updates them itself (``Module.updates_own_variables``).
     """
     name: str
     kind: str = "dimensionless"

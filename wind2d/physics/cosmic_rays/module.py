@@ -71,17 +71,9 @@ from ...problem.units import M_H_CGS, UnitSystem
 from ...state import IV1, IV2, IV3
 from ..base import ORDER_TRANSPORT, Module, Variable
 from ..registry import register
-from .coupling import stage_update
 from .losses import apply_losses
-from .transport import (
-    CDPAR,
-    CGRAD,
-    CVS,
-    NCOEF,
-    interaction,
-    stage_fluxes,
-    tight_signal_rate,
-)
+from .stage import stage as stage_kernel
+from .transport import CDPAR, CGRAD, CVS, NCOEF, interaction, tight_signal_rate
 
 HERE = "physics.cosmic_rays"
 
@@ -199,7 +191,7 @@ class CosmicRays(Module):
 
     Params = CosmicRayParams
     order = ORDER_TRANSPORT
-    updates_own_variables = True      # stage_update applies the flux divergences
+    updates_own_variables = True      # the stage kernel applies the flux divergences
     tally_kinds = {"cr_streaming_heating": "energy", "cr_loss_heating": "energy",
                    "cr_loss_escaped": "energy", "cr_floor_energy": "energy"}
 
@@ -287,52 +279,40 @@ class CosmicRays(Module):
             raise ParameterError(f"{HERE}.diffusion: without a magnetic field diffusion is "
                                  "isotropic: give 'isotropic' instead of 'parallel'/"
                                  "'perpendicular'")
-        # work arrays, allocated once (the step allocates nothing)
+        # work arrays, allocated once (the step allocates nothing): the coefficients
+        # of the derived fields, and the row buffers of a stage (see .stage)
         self.C = np.zeros((NCOEF, m.nt2, m.nt1))
-        self.PF = np.zeros((m.nt2, m.nt1 + 1))
-        self.acc = np.zeros((2, m.nt1))
-        self.R = np.zeros((8, m.nt1))
         # 1 / (x_{k+1} - x_{k-1}) of the centres (mirrored behind walls) for gradients,
         # from the integrator's reconstruction tables
         self.rdx1c = np.ascontiguousarray(sim.integrator.g1[G_IDC])
         self.rdx2c = np.ascontiguousarray(sim.integrator.g2[G_IDC])
         self.rvol1 = 1.0 / m.vol1
-        # slopes of one row (axis 1) and of two rows (axis 2)
-        self.S1 = np.zeros((5, m.nt1))
-        self.SB = np.zeros((2, 5, m.nt1))
-        # advective and entropy fluxes
-        self.A1 = np.zeros((m.nt2, m.nt1 + 1))
-        self.G1 = np.zeros((m.nt2, m.nt1 + 1))
-        self.A2 = np.zeros((m.nt2 + 1, m.nt1))
-        self.G2 = np.zeros((m.nt2 + 1, m.nt1))
-        # per-cell values of three rows (specific entropy and enthalpy, comoving fluxes)
-        self.CV = np.zeros((3, 4, m.nt1))
-        # optical depths along both axes of two rows (and scratch rows)
-        self.TB = np.zeros((2, 6, m.nt1))
-        # entropy at step start
-        self.S0 = np.zeros((m.nt2, m.nt1))
-        # the flux rows of the components that carry no flux (the tangential ones and,
-        # on axis 1, the normal one, applied from PF in stage_source) are not used (the
-        # module updates its variables itself); zero, for whoever reads face fluxes
+        CV = np.zeros((3, 4, m.nt1))            # per-cell values of three rows
+        TB = np.zeros((2, 8, m.nt1))            # coefficients of two rows
+        FB1 = np.zeros((2, 3, m.nt1 + 1))       # face fluxes of two rows (axis 1)
+        FB2 = np.zeros((2, 3, m.nt1))           # and of two rows of axis-2 faces
+        S1 = np.zeros((5, m.nt1))               # slopes along a row
+        S2 = np.zeros((2, 5, m.nt1))            # slopes across rows, two rows
+        R = np.zeros((5, m.nt1))                # intermediate values of the update
+        acc = np.zeros((2, m.nt1))              # per-column sums of the tallies
+        # the rows of the module's variables in the face-flux arrays are not used (the
+        # module updates its variables itself) except F1[iE], F2[iE], which it writes;
+        # zero, for whoever reads face fluxes
         F1, F2 = sim.integrator.F1, sim.integrator.F2
         for k in (self.iF1, self.iF2, self.iF3):
             F1[k] = 0.0
-        F2[self.iF1] = 0.0
-        F2[self.iF3] = 0.0
-        # the arguments of the two kernels that stay the same from call to call
+            F2[k] = 0.0
+        # the arguments of the stage kernel after (W, U0, U, F1, F2, dt, limiter)
+        if (self.iF1, self.iF2, self.iF3) != (self.iE + 1, self.iE + 2, self.iE + 3):
+            raise AssertionError("the flux components must follow Ec")    # (_variables)
         it = sim.integrator
-        self._flux_args = (self.C, self.CV, self.TB, self.S0, self.PF, self.A1, self.G1,
-                           self.A2, self.G2, self.S1, self.SB, self.iE, self.iF1, self.iF2,
-                           self.mhd, self.gamma_c, self.vm, self.d_par, self.d_perp,
-                           self.streaming, self.stream_coef, bool(p.thick_speed_reduction),
-                           self.rdx1c, self.rdx2c, m.dx1, m.dx2, it.g1, it.g2,
-                           m.js, m.je, m.is_, m.ie)
-        self._update_args = (self.C, self.PF, self.S0, self.A1, self.A2, self.G1,
-                             self.G2, self.R, self.acc, self.iE, self.iF1, self.iF2, self.iF3,
-                             self.mhd, self.gamma_c, self.vm, self.d_perp,
-                             bool(p.gas_feedback), bool(sim.eos.isothermal),
-                             float(p.energy_floor), self.tight, m.area1, self.rvol1, m.vol1,
-                             m.dx2, m.js, m.je, m.is_, m.ie)
+        self._stage_args = (CV, TB, FB1, FB2, S1, S2, R, acc, self.iE, self.iF1, self.iF2,
+                            self.iF3, self.mhd, self.gamma_c, self.vm, self.d_par,
+                            self.d_perp, self.streaming, self.stream_coef,
+                            bool(p.thick_speed_reduction), bool(p.gas_feedback),
+                            bool(sim.eos.isothermal), float(p.energy_floor), self.tight,
+                            self.rdx1c, self.rdx2c, m.dx1, m.dx2, it.g1, it.g2, m.area1,
+                            self.rvol1, m.vol1, m.js, m.je, m.is_, m.ie)
         dx = min(float(m.dx1[m.is_:m.ie].min()), float(m.dx2[m.js:m.je].min()))
         self._dt = sim.integrator.courant * dx / (self.vm * math.sqrt(self.gamma_c - 1.0))
 
@@ -365,19 +345,16 @@ class CosmicRays(Module):
 
     def _coefficients(self, sim, W, ring: int) -> None:
         m = sim.mesh
-        interaction(W, self.C, self.iE, self.mhd, self.gamma_c, self.vm, self.d_par,
-                    self.d_perp, self.streaming, self.stream_coef, self.rdx1c, self.rdx2c,
-                    m.dx1, m.dx2,
+        interaction(W, self.C, self.iE, self.mhd, self.gamma_c, self.d_par, self.d_perp,
+                    self.streaming, self.stream_coef, self.rdx1c, self.rdx2c,
                     m.js - ring, m.je + ring, m.is_ - ring, m.ie + ring)
 
-    def add_fluxes(self, sim, W, b1, b2, F1, F2, stage) -> None:
-        lim = sim.integrator.limiter if stage == 1 else 0
-        stage_fluxes(W, F1, F2, lim, stage == 0, *self._flux_args)
-
     def stage_source(self, sim, W, U_out, F1, F2, dt, stage) -> None:
-        # both stages start from the state at the start of the step, sim.state
-        heat, added = stage_update(W, sim.state.U, U_out, F1, F2, float(dt),
-                                   *self._update_args)
+        # fluxes and update in one sweep (see .stage), from the state at the start of
+        # the step (sim.state: both stages start from it); first order in stage 0
+        lim = sim.integrator.limiter if stage == 1 else 0
+        heat, added = stage_kernel(W, sim.state.U, U_out, F1, F2, float(dt), lim,
+                                   *self._stage_args)
         if stage == 1:
             self.tallies["cr_streaming_heating"] += heat
             self.tallies["cr_floor_energy"] += added

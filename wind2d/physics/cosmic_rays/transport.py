@@ -65,7 +65,8 @@ by a function of the cell optical depth; the form below is our choice)::
 
 with ``tau`` the mean of the two neighbours' ``V_m dx / D_nn``, ``D_nn`` the
 diagonal component of the tensor ``D`` along the axis (``D_nn = 0``, e.g.
-across the field, gives ``tau = inf`` and no dissipation).  ``1/(1 + tau)``
+across the field, gives ``tau = inf`` and no dissipation; :func:`_speed`
+evaluates it with one division per face).  ``1/(1 + tau)``
 has the limits of the radiation-transport factor ``(1 - e^-tau)/tau`` (1
 when thin, ``1/tau`` when thick) without an exponential, so the face loops
 vectorise.  The numerical diffusivity ``S dx / 2`` is then at most
@@ -74,23 +75,26 @@ smooth data with piecewise-linear reconstruction: the scheme stays second
 order in the diffusion limit and its answer does not grow with ``V_m``.
 Face values of ``E_c``, ``F_n``, ``f_n`` and ``gamma_c E_c / rho`` are
 piecewise linear (the core's limiter), first order where a face value of
-``E_c`` would be negative.
+``E_c`` would be negative; in the predictor stage first order (no slopes).
 
 Implementation
 --------------
-One sweep over rows per stage (:func:`stage_fluxes`) computes the per-cell
-values, the coefficients, the slopes and the fluxes of both axes, keeping
-only a few rows of intermediate values (no full-grid temporaries besides what
-the update after the core's cell update reads).  Every inner loop runs over
-``i``, is branch-free and touches few arrays, so that numba vectorises it
-(measured with LLVM's vectoriser remarks).  Things that stopped it: too many
-distinct arrays written and read in one loop (the run-time overlap checks
-exceed the compiler's budget: split such loops through row buffers); a
-loop-invariant flag whose untaken branch holds a library call (``pow``),
-which the compiler may evaluate in every cell (test such flags outside the
-loop); and choosing the upwind value by a ternary over two expressions of
-the same shape, which the compiler turns into a gather of the upwind cell
-(compute both values first, then choose).
+Row functions, called by the sweep of a stage (:func:`~.stage.stage`): the
+per-cell values of a row (:func:`cell_row`), its coefficients
+(:func:`coef_row`), the slopes across rows (:func:`slopes_across`) and the
+fluxes of the axis-2 faces below a row (:func:`faces_across`) and of the
+axis-1 faces of a row (:func:`faces_along`), into buffers of a few rows.
+Every inner loop runs over ``i`` (unsigned indices, ``core.indexing``), is
+branch-free and touches few arrays, so that numba vectorises it (checked in
+the generated assembly: vector instructions on the wide registers).  Things
+that stopped it: too many distinct arrays written and read in one loop (the
+run-time overlap checks exceed the compiler's budget: split such loops through
+row buffers); a loop-invariant flag whose untaken branch holds a library call
+(``pow``), which the compiler may evaluate in every cell (test such flags
+outside the loop); choosing the upwind value by a ternary over two
+expressions of the same shape, which the compiler turns into a gather of the
+upwind cell (compute both values first, then choose); and signed loop indices
+(numba's wrap-around test for negative indices).
 """
 from __future__ import annotations
 
@@ -111,17 +115,19 @@ from ...core.reconstruct.plm import (
 )
 from ...state import IB1, IB2, IB3, IDN, IV1, IV2
 
-# slots of the coefficient array C[k, j, i]
-CB1, CB2, CB3, CDPAR, CVS, CGRAD, CTAU1, CTAU2 = range(8)
+# slots of the coefficient array C[k, j, i] (interaction) and of the row buffers
+# TB[k % 2, slot, i] of a stage (stage.py)
+CB1, CB2, CB3, CDPAR, CVS, CGRAD, CD11, CD22 = range(8)
 NCOEF = 8
+D11, D22, GRAD, B1, B2, B3, DPAR, VS = range(8)
 D_MAX = 1e100          # cap of D_par where b . grad P_c vanishes (free streaming)
 
 
 @njit(cache=True, error_model="numpy", inline="always")
-def _coef_row(W, j, i0, i1, iE, mhd, gamma_c, vm, d_par, d_perp, streaming, stream_coef,
-              rdx1c, rdx2c, dx1, dx2, b1r, b2r, b3r, dpr, vsr, gr, t1r, t2r):
+def coef_row(W, j, i0, i1, iE, mhd, gamma_c, d_par, d_perp, streaming, stream_coef,
+             rdx1c, rdx2c, b1r, b2r, b3r, dpr, vsr, gr, d1r, d2r):
     # interaction coefficients of row j, cells i0 <= i < i1 (see interaction), into
-    # the rows b1r, b2r, b3r (unit field vector), dpr, vsr, gr, t1r, t2r
+    # the rows b1r, b2r, b3r (unit field vector), dpr, vsr, gr, d1r, d2r
     gm1 = gamma_c - 1.0
     rmax = 1.0 / D_MAX
     rz = gm1 * rdx2c[j]
@@ -133,24 +139,28 @@ def _coef_row(W, j, i0, i1, iE, mhd, gamma_c, vm, d_par, d_perp, streaming, stre
             dpr[i] = d_par
             vsr[i] = 0.0
             gr[i] = 0.0
-            t1r[i] = vm * dx1[i] / d_par
-            t2r[i] = vm * dx2[j] / d_par
+            d1r[i] = d_par
+            d2r[i] = d_par
         return
     if streaming:
         for i in range(i0, i1):
             b1 = W[IB1, j, i]
             b2 = W[IB2, j, i]
             b3 = W[IB3, j, i]
-            bb = math.sqrt(b1 * b1 + b2 * b2 + b3 * b3)
+            b2s = b1 * b1 + b2 * b2 + b3 * b3
+            bb = math.sqrt(b2s)
             has = bb > 0.0
-            rb = 1.0 / (bb if has else 1.0)
+            # one division for 1/|B| and |B|/sqrt(rho): t = 1/(|B| sqrt(rho))
+            sd = math.sqrt(W[IDN, j, i])
+            t = 1.0 / ((bb if has else 1.0) * sd)
+            rb = sd * t
             n1 = b1 * rb if has else 1.0
             n2 = b2 * rb
             n3 = b3 * rb
             g1 = gm1 * (W[iE, j, i + ONE] - W[iE, j, i - ONE]) * rdx1c[i]
             g2 = (W[iE, j + ONE, i] - W[iE, j - ONE, i]) * rz
             gb = n1 * g1 + n2 * g2
-            vst = stream_coef * bb / math.sqrt(W[IDN, j, i])
+            vst = stream_coef * b2s * t
             e = W[iE, j, i]
             num = vst * gamma_c * (e if e > 0.0 else 0.0)
             dp = d_par + num / (abs(gb) + num * rmax + 1e-300)
@@ -160,8 +170,8 @@ def _coef_row(W, j, i0, i1, iE, mhd, gamma_c, vm, d_par, d_perp, streaming, stre
             dpr[i] = dp
             vsr[i] = -vst if gb > 0.0 else (vst if gb < 0.0 else 0.0)
             gr[i] = gb
-            t1r[i] = vm * dx1[i] / (d_perp + (dp - d_perp) * n1 * n1)
-            t2r[i] = vm * dx2[j] / (d_perp + (dp - d_perp) * n2 * n2)
+            d1r[i] = d_perp + (dp - d_perp) * n1 * n1
+            d2r[i] = d_perp + (dp - d_perp) * n2 * n2
         return
     for i in range(i0, i1):
         b1 = W[IB1, j, i]
@@ -181,31 +191,32 @@ def _coef_row(W, j, i0, i1, iE, mhd, gamma_c, vm, d_par, d_perp, streaming, stre
         dpr[i] = d_par
         vsr[i] = 0.0
         gr[i] = n1 * g1 + n2 * g2
-        t1r[i] = vm * dx1[i] / (d_perp + (d_par - d_perp) * n1 * n1)
-        t2r[i] = vm * dx2[j] / (d_perp + (d_par - d_perp) * n2 * n2)
+        d1r[i] = d_perp + (d_par - d_perp) * n1 * n1
+        d2r[i] = d_perp + (d_par - d_perp) * n2 * n2
 
 
 @njit(cache=True, error_model="numpy")
-def interaction(W, C, iE, mhd, gamma_c, vm, d_par, d_perp, streaming, stream_coef,
-                rdx1c, rdx2c, dx1, dx2, j0, j1, i0, i1):
+def interaction(W, C, iE, mhd, gamma_c, d_par, d_perp, streaming, stream_coef,
+                rdx1c, rdx2c, j0, j1, i0, i1):
     """Interaction coefficients of cells ``j0 <= j < j1``, ``i0 <= i < i1``.
 
     Fills ``C[CB1:CB3+1]`` (unit field vector; (1, 0, 0) where B = 0),
     ``C[CDPAR]`` (``D = 1/sigma`` along the field; across it ``D = d_perp``),
     ``C[CVS]`` (signed streaming speed along ``b``: ``v_s = C[CVS] b``),
-    ``C[CGRAD]`` (``b . grad P_c``) and ``C[CTAU1]``, ``C[CTAU2]``, the optical
-    depths ``V_m dx_k / D_kk`` of the cell along each axis (``inf`` where
-    ``D_kk = 0``).  ``d_par = 3 kappa_par``, ``d_perp = 3 kappa_perp`` (code
-    units, 0 when off); ``stream_coef = f_s / sqrt(chi)``; ``rdx1c[i] =
-    1/(x_{i+1} - x_{i-1})`` (centres).  Needs one ring of neighbours.  The
-    streaming part ``v_st (E_c + P_c) / |b . grad P_c|`` is evaluated as
-    ``num / (|g| + num / D_MAX + tiny)``: finite, at most ``D_MAX``.
-    (:func:`stage_fluxes` computes the same row by row inside its sweep.)
+    ``C[CGRAD]`` (``b . grad P_c``) and ``C[CD11]``, ``C[CD22]``, the
+    diagonal components ``D_kk`` of ``D`` along the axes (the optical depth of
+    a cell along axis k is ``V_m dx_k / D_kk``).  ``d_par = 3 kappa_par``,
+    ``d_perp = 3 kappa_perp`` (code units, 0 when off); ``stream_coef = f_s /
+    sqrt(chi)``; ``rdx1c[i] = 1/(x_{i+1} - x_{i-1})`` (centres).  Needs one
+    ring of neighbours.  The streaming part ``v_st (E_c + P_c) / |b . grad
+    P_c|`` is evaluated as ``num / (|g| + num / D_MAX + tiny)``: finite, at
+    most ``D_MAX``.
+    (:func:`~.stage.stage` computes the same row by row inside its sweep.)
     """
     for j in range(u(j0), u(j1)):
-        _coef_row(W, j, u(i0), u(i1), iE, mhd, gamma_c, vm, d_par, d_perp, streaming,
-                  stream_coef, rdx1c, rdx2c, dx1, dx2, C[CB1, j], C[CB2, j], C[CB3, j],
-                  C[CDPAR, j], C[CVS, j], C[CGRAD, j], C[CTAU1, j], C[CTAU2, j])
+        coef_row(W, j, u(i0), u(i1), iE, mhd, gamma_c, d_par, d_perp, streaming,
+                 stream_coef, rdx1c, rdx2c, C[CB1, j], C[CB2, j], C[CB3, j],
+                 C[CDPAR, j], C[CVS, j], C[CGRAD, j], C[CD11, j], C[CD22, j])
 
 
 @njit(cache=True, error_model="numpy", inline="always")
@@ -219,34 +230,25 @@ def entropy(e, gamma_c, four_thirds):
 
 
 @njit(cache=True, error_model="numpy", inline="always")
-def _cell_row(W, V, j, n, iE, iF1, iF2, gamma_c, ft):
+def cell_row(W, V, j, n, iE, iF1, iF2, gamma_c, ft):
     # per-cell values of row j that the faces reconstruct: V[0] specific entropy
     # E_c^(1/gamma_c) / rho, V[1] specific enthalpy gamma_c E_c / rho, V[2], V[3]
     # comoving fluxes F_k - gamma_c E_c v_k.  The test of ft is outside the loops
     # (inside, the compiler may evaluate the pow of the other branch in every cell).
-    if ft:
-        for i in range(u(0), n):
-            V[0, i] = entropy(W[iE, j, i], gamma_c, True) / W[IDN, j, i]
-    else:
-        for i in range(u(0), n):
-            V[0, i] = entropy(W[iE, j, i], gamma_c, False) / W[IDN, j, i]
     for i in range(u(0), n):
         e = W[iE, j, i]
         ge = gamma_c * e
-        V[1, i] = ge / W[IDN, j, i]
+        rd = 1.0 / W[IDN, j, i]
+        V[1, i] = ge * rd
         V[2, i] = W[iF1, j, i] - ge * W[IV1, j, i]
         V[3, i] = W[iF2, j, i] - ge * W[IV2, j, i]
-
-
-@njit(cache=True, error_model="numpy", inline="always")
-def _start_row(W, S0, j, i0, i1, iE, gamma_c, ft):
-    # the entropy E_c^(1/gamma_c) at the start of the step
+        V[0, i] = rd
     if ft:
-        for i in range(i0, i1):
-            S0[j, i] = entropy(W[iE, j, i], gamma_c, True)
+        for i in range(u(0), n):
+            V[0, i] = entropy(W[iE, j, i], gamma_c, True) * V[0, i]
     else:
-        for i in range(i0, i1):
-            S0[j, i] = entropy(W[iE, j, i], gamma_c, False)
+        for i in range(u(0), n):
+            V[0, i] = entropy(W[iE, j, i], gamma_c, False) * V[0, i]
 
 
 @njit(cache=True, error_model="numpy", inline="always")
@@ -318,123 +320,149 @@ def _face(e0, f0, g0, h0, s0, e1, f1, g1, h1, s1, le, lf, lg, lh, ls, re, rf, rg
     return fe, adv, ff, ent
 
 
-@njit(cache=True, error_model="numpy")
-def stage_fluxes(W, F1, F2, limiter, first, C, CV, TB, S0, PF, A1, G1, A2, G2, S1, S2, iE,
-                 iF1, iF2, mhd, gamma_c, vm, d_par, d_perp, streaming, stream_coef, reduce,
-                 rdx1c, rdx2c, dx1, dx2, geo1, geo2, js, je, is_, ie):
-    """Everything a stage needs before the core's cell update, in one sweep over rows.
+@njit(cache=True, error_model="numpy", inline="always")
+def _face_first(e0, f0, g0, h0, s0, e1, f1, g1, h1, s1, m, S, vm2c):
+    """:func:`_face` without slopes (first order): the same values as ``_face``
+    with zero slopes, without the work on them."""
+    up = m >= 0.0
+    adv = m * (h0 if up else h1)
+    ent = m * (s0 if up else s1)
+    fe = adv + 0.5 * (g0 + g1) - 0.5 * S * (e1 - e0)
+    ff = vm2c * (0.5 * (e0 + e1)) - 0.5 * S * (f1 - f0)
+    return fe, adv, ff, ent
 
-    Per row: the per-cell values the faces reconstruct (``CV[row % 3]``: specific
-    entropy ``E_c^(1/gamma_c) / rho``, specific enthalpy ``gamma_c E_c / rho``,
-    comoving fluxes ``F_k - gamma_c E_c v_k``; three rows kept), on the first
-    stage the start entropy ``S0`` (interior), the interaction
-    coefficients (:func:`interaction`, one ring of ghosts; into ``C`` the slots
-    ``CDPAR`` and ``CVS`` that :func:`~.coupling.stage_update` needs, the optical
-    depths of two rows into ``TB`` ``[2, 6, nt1]``, whose other rows take what
-    the step does not keep), the limited slopes (``S1`` ``[5, nt1]`` along the
-    row, ``S2`` ``[2, 5, nt1]`` across rows, two rows kept) and the face fluxes:
 
-    * axis 1 (R or x), rows ``js <= j < je``, faces ``is_ <= i <= ie``:
-      ``F1[iE]`` the flux of E_c (needs the gas mass flux in ``F1[0]``, the
-      core's), ``A1`` its advective part, ``G1`` the flux of the entropy
-      ``E_c^(1/gamma_c)``, ``PF`` the flux of ``F_1`` (applied by
-      :func:`~.coupling.stage_update` in pressure-balanced form);
-    * axis 2 (z or y), faces ``js <= j <= je``, columns ``is_ <= i < ie``:
-      ``F2[iE]``, ``F2[iF2]`` (plain divergence), ``A2``, ``G2``.
+@njit(cache=True, error_model="numpy", inline="always")
+def _speed(vmc, hvm, dl, dr, xl, xr):
+    """Signal speed of a face ``vmc / (1 + (tau_l + tau_r) / 2)``, reduced by the
+    optical depths ``tau = V_m dx / D`` of the two cells (``hvm = V_m / 2``,
+    ``dl``, ``dr`` their ``D`` along the axis, ``xl``, ``xr`` their widths),
+    written with one division: ``vmc D_l D_r / (D_l D_r + (V_m/2)(dx_l D_r +
+    dx_r D_l))``, 0 where either ``D`` is 0."""
+    p = dl * dr
+    return vmc * p / (p + hvm * (xl * dr + xr * dl) + 1e-300)
 
-    The other flux rows of the three components (``F1[iF1]``, ``F1[iF2]``,
-    ``F1[iF3]``, ``F2[iF1]``, ``F2[iF3]``) must be zero; the module zeroes them
-    once when it is attached (nothing else writes them).  Every inner loop
-    runs over ``i`` and touches few arrays, so that it vectorises.
-    """
-    ft = gamma_c == 4.0 / 3.0
-    vmc = vm * math.sqrt(gamma_c - 1.0)
-    vm2c = vm * vm * (gamma_c - 1.0)
-    n = u(W.shape[2])
+
+@njit(cache=True, error_model="numpy", inline="always")
+def slopes_across(W, CV, S2, r, ia, ib, iE, iF2, geo2, limiter):
+    """Limited slopes across rows of row ``r`` (cells ``ia <= i < ib``) into
+    ``S2[r % 2]``: E_c, F_2, comoving F_2, specific enthalpy, specific entropy
+    (the per-cell values of rows ``r - 1, r, r + 1`` in ``CV[k % 3]``)."""
+    vm_ = CV[(r - ONE) % u(3)]
+    v0 = CV[r % u(3)]
+    vp = CV[(r + ONE) % u(3)]
+    cur = S2[r % u(2)]
+    idl = geo2[G_IDL, r]
+    idr = geo2[G_IDR, r]
+    idc = geo2[G_IDC, r]
+    cl = geo2[G_CL, r]
+    cr = geo2[G_CR, r]
     WE = W[iE]
-    WF1 = W[iF1]
     WF2 = W[iF2]
-    ja = u(js)
-    jb = u(je)
-    ia = u(is_)
-    ib = u(ie)
-    for j in range(ja - ONE - ONE, jb + ONE + ONE):
-        _cell_row(W, CV[j % u(3)], j, n, iE, iF1, iF2, gamma_c, ft)
-        if first and ja <= j and j < jb:
-            _start_row(W, S0, j, ia, ib, iE, gamma_c, ft)
-        if j < ja:
-            continue
-        r = j - ONE                       # js - 1 <= r <= je: coefficients, slopes
-        tb = TB[r % u(2)]
-        _coef_row(W, r, ia - ONE, ib + ONE, iE, mhd, gamma_c, vm, d_par, d_perp, streaming,
-                  stream_coef, rdx1c, rdx2c, dx1, dx2, tb[3], tb[4], tb[5], C[CDPAR, r],
-                  C[CVS, r], tb[2], tb[0], tb[1])
-        vm_ = CV[(r - ONE) % u(3)]
-        v0 = CV[r % u(3)]
-        vp = CV[j % u(3)]
-        cur = S2[r % u(2)]
-        low = S2[(r + ONE) % u(2)]        # slopes of row r - 1
-        idl = geo2[G_IDL, r]
-        idr = geo2[G_IDR, r]
-        idc = geo2[G_IDC, r]
-        cl = geo2[G_CL, r]
-        cr = geo2[G_CR, r]
-        _slopes_y(WE[r - ONE], WE[r], WE[j], ia, ib, idl, idr, idc, cl, cr, limiter, cur, 0)
-        _slopes_y(WF2[r - ONE], WF2[r], WF2[j], ia, ib, idl, idr, idc, cl, cr, limiter, cur,
-                  1)
-        _slopes_y(vm_[3], v0[3], vp[3], ia, ib, idl, idr, idc, cl, cr, limiter, cur, 2)
-        _slopes_y(vm_[1], v0[1], vp[1], ia, ib, idl, idr, idc, cl, cr, limiter, cur, 3)
-        _slopes_y(vm_[0], v0[0], vp[0], ia, ib, idl, idr, idc, cl, cr, limiter, cur, 4)
-        if r < ja:
-            continue
-        # axis-2 faces between rows r - 1 and r
-        rl = r - ONE
-        dfr = geo2[G_DFR, rl]
-        dfl = geo2[G_DFL, r]
-        el = WE[rl]
-        er = WE[r]
-        fl = WF2[rl]
-        fr = WF2[r]
-        taul = TB[rl % u(2), 1]
-        taur = tb[1]
-        m2 = F2[IDN, r]
+    _slopes_y(WE[r - ONE], WE[r], WE[r + ONE], ia, ib, idl, idr, idc, cl, cr, limiter, cur, 0)
+    _slopes_y(WF2[r - ONE], WF2[r], WF2[r + ONE], ia, ib, idl, idr, idc, cl, cr, limiter, cur,
+              1)
+    _slopes_y(vm_[3], v0[3], vp[3], ia, ib, idl, idr, idc, cl, cr, limiter, cur, 2)
+    _slopes_y(vm_[1], v0[1], vp[1], ia, ib, idl, idr, idc, cl, cr, limiter, cur, 3)
+    _slopes_y(vm_[0], v0[0], vp[0], ia, ib, idl, idr, idc, cl, cr, limiter, cur, 4)
+
+
+@njit(cache=True, error_model="numpy", inline="always")
+def faces_across(W, F2, CV, S2, TB, out, r, ia, ib, iE, iF2, geo2, dx2, vm, vmc, vm2c, reduce,
+                 first):
+    """Axis-2 faces between rows ``r - 1`` and ``r``, columns ``ia <= i < ib``:
+    the flux of E_c into ``F2[iE, r]``, its advective part, the flux of ``F_2``
+    and the entropy flux into ``out[0:3]``.  Needs the slopes of both rows
+    (``S2``, not read when ``first``: first-order faces), their ``D_22``
+    (``TB[k % 2, D22]``) and the gas mass flux ``F2[0, r]``."""
+    rl = r - ONE
+    vm_ = CV[rl % u(3)]
+    v0 = CV[r % u(3)]
+    low = S2[rl % u(2)]
+    cur = S2[r % u(2)]
+    dfr = geo2[G_DFR, rl]
+    dfl = geo2[G_DFL, r]
+    el = W[iE, rl]
+    er = W[iE, r]
+    fl = W[iF2, rl]
+    fr = W[iF2, r]
+    dl = TB[rl % u(2), D22]
+    dr = TB[r % u(2), D22]
+    xl = dx2[rl]
+    xr = dx2[r]
+    hvm = 0.5 * vm
+    m2 = F2[IDN, r]
+    fe2 = F2[iE, r]
+    if first:
         for i in range(ia, ib):
-            sp = vmc / (1.0 + 0.5 * (taul[i] + taur[i])) if reduce else vmc
-            fe, adv, ff, ent = _face(
-                el[i], fl[i], vm_[3, i], vm_[1, i], vm_[0, i],
-                er[i], fr[i], v0[3, i], v0[1, i], v0[0, i],
-                low[0, i], low[1, i], low[2, i], low[3, i], low[4, i],
-                cur[0, i], cur[1, i], cur[2, i], cur[3, i], cur[4, i],
-                dfr, dfl, m2[i], sp, vm2c)
-            F2[iE, r, i] = fe
-            A2[r, i] = adv
-            F2[iF2, r, i] = ff
-            G2[r, i] = ent
-        if r == jb:
-            continue
-        # axis-1 faces of row r
-        e = WE[r]
-        f = WF1[r]
-        _slopes_x(e, ia - ONE, ib + ONE, geo1, limiter, S1, 0)
-        _slopes_x(f, ia - ONE, ib + ONE, geo1, limiter, S1, 1)
-        _slopes_x(v0[2], ia - ONE, ib + ONE, geo1, limiter, S1, 2)
-        _slopes_x(v0[1], ia - ONE, ib + ONE, geo1, limiter, S1, 3)
-        _slopes_x(v0[0], ia - ONE, ib + ONE, geo1, limiter, S1, 4)
-        tau = tb[0]
-        m1 = F1[IDN, r]
+            sp = _speed(vmc, hvm, dl[i], dr[i], xl, xr) if reduce else vmc
+            fe, adv, ff, ent = _face_first(el[i], fl[i], vm_[3, i], vm_[1, i], vm_[0, i],
+                                           er[i], fr[i], v0[3, i], v0[1, i], v0[0, i],
+                                           m2[i], sp, vm2c)
+            fe2[i] = fe
+            out[0, i] = adv
+            out[1, i] = ff
+            out[2, i] = ent
+        return
+    for i in range(ia, ib):
+        sp = _speed(vmc, hvm, dl[i], dr[i], xl, xr) if reduce else vmc
+        fe, adv, ff, ent = _face(
+            el[i], fl[i], vm_[3, i], vm_[1, i], vm_[0, i],
+            er[i], fr[i], v0[3, i], v0[1, i], v0[0, i],
+            low[0, i], low[1, i], low[2, i], low[3, i], low[4, i],
+            cur[0, i], cur[1, i], cur[2, i], cur[3, i], cur[4, i],
+            dfr, dfl, m2[i], sp, vm2c)
+        fe2[i] = fe
+        out[0, i] = adv
+        out[1, i] = ff
+        out[2, i] = ent
+
+
+@njit(cache=True, error_model="numpy", inline="always")
+def faces_along(W, F1, CV, S1, TB, out, r, ia, ib, iE, iF1, geo1, dx1, limiter, vm, vmc,
+                vm2c, reduce):
+    """Axis-1 faces of row ``r``, ``ia <= i <= ib``: slopes along the row into
+    ``S1``, the flux of E_c into ``F1[iE, r]``, its advective part, the flux of
+    ``F_1`` and the entropy flux into ``out[0:3]``; needs the ``D_11`` of the
+    row (``TB[r % 2, D11]``) and the gas mass flux ``F1[0, r]``.  ``limiter`` 0:
+    first-order faces (no slopes)."""
+    v0 = CV[r % u(3)]
+    e = W[iE, r]
+    f = W[iF1, r]
+    d = TB[r % u(2), D11]
+    hvm = 0.5 * vm
+    m1 = F1[IDN, r]
+    fe1 = F1[iE, r]
+    if limiter == 0:
         for i in range(ia, ib + ONE):
             il = i - ONE
-            sp = vmc / (1.0 + 0.5 * (tau[il] + tau[i])) if reduce else vmc
-            fe, adv, ff, ent = _face(
-                e[il], f[il], v0[2, il], v0[1, il], v0[0, il],
-                e[i], f[i], v0[2, i], v0[1, i], v0[0, i],
-                S1[0, il], S1[1, il], S1[2, il], S1[3, il], S1[4, il],
-                S1[0, i], S1[1, i], S1[2, i], S1[3, i], S1[4, i],
-                geo1[G_DFR, il], geo1[G_DFL, i], m1[i], sp, vm2c)
-            F1[iE, r, i] = fe
-            A1[r, i] = adv
-            PF[r, i] = ff
-            G1[r, i] = ent
+            sp = _speed(vmc, hvm, d[il], d[i], dx1[il], dx1[i]) if reduce else vmc
+            fe, adv, ff, ent = _face_first(e[il], f[il], v0[2, il], v0[1, il], v0[0, il],
+                                           e[i], f[i], v0[2, i], v0[1, i], v0[0, i],
+                                           m1[i], sp, vm2c)
+            fe1[i] = fe
+            out[0, i] = adv
+            out[1, i] = ff
+            out[2, i] = ent
+        return
+    _slopes_x(e, ia - ONE, ib + ONE, geo1, limiter, S1, 0)
+    _slopes_x(f, ia - ONE, ib + ONE, geo1, limiter, S1, 1)
+    _slopes_x(v0[2], ia - ONE, ib + ONE, geo1, limiter, S1, 2)
+    _slopes_x(v0[1], ia - ONE, ib + ONE, geo1, limiter, S1, 3)
+    _slopes_x(v0[0], ia - ONE, ib + ONE, geo1, limiter, S1, 4)
+    for i in range(ia, ib + ONE):
+        il = i - ONE
+        sp = _speed(vmc, hvm, d[il], d[i], dx1[il], dx1[i]) if reduce else vmc
+        fe, adv, ff, ent = _face(
+            e[il], f[il], v0[2, il], v0[1, il], v0[0, il],
+            e[i], f[i], v0[2, i], v0[1, i], v0[0, i],
+            S1[0, il], S1[1, il], S1[2, il], S1[3, il], S1[4, il],
+            S1[0, i], S1[1, i], S1[2, i], S1[3, i], S1[4, i],
+            geo1[G_DFR, il], geo1[G_DFL, i], m1[i], sp, vm2c)
+        fe1[i] = fe
+        out[0, i] = adv
+        out[1, i] = ff
+        out[2, i] = ent
 
 
 @njit(cache=True, error_model="numpy")
