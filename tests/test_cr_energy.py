@@ -18,6 +18,7 @@ import pytest
 from astropy import units as u
 
 from wind2d import Simulation
+from wind2d.core.eos import Isothermal
 from wind2d.physics.cosmic_rays import CosmicRays
 from wind2d.problem.units import M_H_CGS, UnitSystem
 
@@ -41,8 +42,9 @@ def _totals(sim, cr):
     return energy, np.array(mom), scale
 
 
-def test_total_energy_and_momentum_are_conserved_in_a_periodic_box():
-    cr = CosmicRays.from_keys("cartesian", **KEYS)
+@pytest.mark.parametrize("gamma_c", ["4/3", 1.5])     # default and a general index
+def test_total_energy_and_momentum_are_conserved_in_a_periodic_box(gamma_c):
+    cr = CosmicRays.from_keys("cartesian", gamma=gamma_c, **KEYS)
     sim = Simulation("cartesian", (0, 1, 32), (0, 1, 32), PERIODIC, mhd=True, riemann="hlld",
                      modules=[cr])
     sim.set_field(potential=lambda x, y: 0.3 * np.sin(2 * np.pi * x) * np.sin(2 * np.pi * y)
@@ -59,6 +61,23 @@ def test_total_energy_and_momentum_are_conserved_in_a_periodic_box():
     # energy really moved between the components (the test is not trivial)
     assert cr.tallies["cr_streaming_heating"] > 1e-4 * e0
     assert cr.tallies["cr_floor_energy"] == 0.0
+
+
+def test_momentum_is_conserved_with_an_isothermal_gas():
+    # an isothermal gas has no energy equation; the momentum exchange stays exact
+    cr = CosmicRays.from_keys("cartesian", **KEYS)
+    sim = Simulation("cartesian", (0, 1, 24), (0, 1, 24), PERIODIC, mhd=True, riemann="hlle",
+                     eos=Isothermal(1.0), modules=[cr])
+    sim.set_field(b1=0.6, b2=0.3)
+    sim.set_primitive(rho=lambda x, y: 1 + 0.5 * np.sin(2 * np.pi * (x + 2 * y)),
+                      vx=lambda x, y: 0.3 * np.sin(2 * np.pi * y), vy=0.2,
+                      Ec=lambda x, y: 1 + 2 * np.exp(-((x - .5) ** 2 + (y - .5) ** 2) / 0.02))
+    _, m0, scale = _totals(sim, cr)
+    sim.advance(1.0, max_steps=100)
+    _, m1, _ = _totals(sim, cr)
+    assert sim.nstep == 100
+    assert np.all(np.abs(m1 - m0) < 1e-12 * scale), (m1 - m0) / scale
+    assert np.isfinite(sim.field("Ec")).all() and sim.field("Ec").min() > 0.0
 
 
 def test_total_energy_is_conserved_in_a_closed_cylinder():

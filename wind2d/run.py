@@ -212,6 +212,8 @@ class Driver:
                     self.history = History(self.dir / HISTORY, columns)
                 self.log(f"wind2d {__version__}: {self.p.title}"
                          + (f" on {self.nranks} ranks" if self.nranks > 1 else ""))
+                for line in self.sim.module_advice():          # collective under MPI
+                    self.log(f"warning: {line}")
             elif self.root:
                 self.history = History.resume(self.dir / HISTORY, columns, self.sim.t)
             self.log(f"grid {self.sim.mesh}, {self.sim.mesh.n1 * self.sim.mesh.n2} cells; "

@@ -409,6 +409,17 @@ class Simulation:
                     out[k] = (float(v), mod.tally_kinds.get(k, "dimensionless"))
         return out
 
+    def global_max(self, value: float) -> float:
+        """Largest value of a float over the ranks (collective under MPI)."""
+        if self.comm is None:
+            return float(value)
+        from mpi4py import MPI
+        return float(self.comm.allreduce(float(value), op=MPI.MAX))
+
+    def module_advice(self) -> list[str]:
+        """Every module's warnings about its parameters (collective under MPI)."""
+        return [line for mod in self.modules for line in mod.advice(self)]
+
     def global_sum(self, value):
         """Sum of a float or float array over the ranks (the value itself in serial).
         Collective under MPI.  For diagnostics only: the order of the sum depends on

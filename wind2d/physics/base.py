@@ -152,6 +152,13 @@ class Module:
         """Apply an operator-split source over ``dt`` to ``sim.state.U`` (interior);
         ``sim.integrator.W`` holds the primitives of the state at entry."""
 
+    def advice(self, sim) -> list[str]:
+        """Warnings about the module's parameters for the current (initial) state,
+        one line each, naming the key and what would be safer (e.g. a reduced
+        speed too small for the flow).  Printed by ``wind2d check`` and logged
+        when a fresh run starts.  Collective under MPI (use ``sim.global_max``)."""
+        return []
+
     # ---------------------------------------------------------------- output
     def derived_fields(self, sim) -> dict[str, tuple[np.ndarray, str]]:
         """Extra snapshot fields: name -> (interior array [n2, n1], kind)."""

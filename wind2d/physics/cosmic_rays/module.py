@@ -359,6 +359,42 @@ class CosmicRays(Module):
             self.tallies["cr_streaming_heating"] += heat
             self.tallies["cr_floor_energy"] += added
 
+    def advice(self, sim) -> list[str]:
+        """``max_speed`` against the gas signal speeds of the current state and the
+        diffusion speed ``kappa / L`` (L the smaller extent of the grid): the
+        two-moment method needs V_m well above both (about ten times, Jiang & Oh
+        2018); too small a V_m distorts the transport and drives floor hits."""
+        if self.tight:
+            return []
+        m, W = sim.mesh, sim.integrator.W
+        sl = (slice(m.js, m.je), slice(m.is_, m.ie))
+        rho = W[0][sl]
+        g = 1.0 if sim.eos.isothermal else sim.eos.gamma
+        c2 = g * W[4][sl]
+        if self.mhd:
+            c2 = c2 + W[5][sl] ** 2 + W[6][sl] ** 2 + W[7][sl] ** 2
+        speed = np.sqrt(W[1][sl] ** 2 + W[2][sl] ** 2) + np.sqrt(c2 / rho)
+        vgas = sim.global_max(float(speed.max()) if speed.size else 0.0)
+        gm = sim.global_mesh
+        L = min(gm.x1f[gm.ie] - gm.x1f[gm.is_], gm.x2f[gm.je] - gm.x2f[gm.js])
+        vdif = max(self.d_par, self.d_perp) / 3.0 / L
+        u = self.units
+
+        def show(v):
+            if u is None:
+                return f"{v:.4g} (code units)"
+            return f"{v * u.to_cgs('velocity') / 1e5:.4g} km/s"
+
+        out = []
+        for what, v in (("the largest gas signal speed |v| + c_fast", vgas),
+                        ("the diffusion speed kappa / L", vdif)):
+            if v > 0.0 and self.vm < 10.0 * v:
+                out.append(f"{HERE}.max_speed = {show(self.vm)} is only "
+                           f"{self.vm / v:.3g} times {what} ({show(v)}); the two-moment "
+                           f"method needs about 10 times (Jiang & Oh 2018): give at least "
+                           f"{show(10.0 * v)}")
+        return out
+
     # ------------------------------------------------------------ output
     def derived_fields(self, sim):
         m = sim.mesh
