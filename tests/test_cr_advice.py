@@ -30,7 +30,7 @@ def _advice(vm, kappa, bx=0.0, vx=0.0, extent=2.0):
                      riemann="hlld", modules=[cr])
     sim.set_field(b1=bx, b2=0.0)
     sim.set_primitive(rho=1.0, p=1.0, vx=vx, Ec=1.0)
-    return sim.module_advice()
+    return sim.advice()
 
 
 def test_no_advice_when_v_m_is_ample():

@@ -132,8 +132,8 @@ def cmd_check(args) -> int:
     print(f"stop: t = {us.describe(p.stop.time, 'time')}")
     if sim.modules:
         print("physics: " + ", ".join(f"{mod.name} (order {mod.order})" for mod in sim.modules))
-        for line in sim.module_advice():
-            print(f"warning: {line}")
+    for line in sim.advice():
+        print(f"warning: {line}")
     cells = m.n1 * m.n2
     per_zone = 56 * sim.varmap.nvar + 6 * 8        # bytes; measured by tools/bench_core.py
     dt0 = sim.max_dt()                               # CFL and every module's limit

@@ -212,7 +212,7 @@ class Driver:
                     self.history = History(self.dir / HISTORY, columns)
                 self.log(f"wind2d {__version__}: {self.p.title}"
                          + (f" on {self.nranks} ranks" if self.nranks > 1 else ""))
-                for line in self.sim.module_advice():          # collective under MPI
+                for line in self.sim.advice():          # collective under MPI
                     self.log(f"warning: {line}")
             elif self.root:
                 self.history = History.resume(self.dir / HISTORY, columns, self.sim.t)

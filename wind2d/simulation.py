@@ -114,6 +114,8 @@ class Simulation:
         kinds = {en.get(k, k): (v if isinstance(v, str) else v.get("kind"))
                  for k, v in boundaries.items()}
         per1, per2 = kinds.get("x1_lo") == "periodic", kinds.get("x2_lo") == "periodic"
+        self._edge_kinds = kinds                  # internal edge name -> kind (whole grid)
+        self._edge_names = {v: k for k, v in en.items()}
         self.global_mesh = Mesh(geometry, x1, x2, ng=2, periodic1=per1, periodic2=per2)
         self.comm = comm if comm is not None and comm.size > 1 else None
         self.eos = eos
@@ -416,9 +418,37 @@ class Simulation:
         from mpi4py import MPI
         return float(self.comm.allreduce(float(value), op=MPI.MAX))
 
-    def module_advice(self) -> list[str]:
-        """Every module's warnings about its parameters (collective under MPI)."""
-        return [line for mod in self.modules for line in mod.advice(self)]
+    def advice(self) -> list[str]:
+        """Warnings about the set-up for the current state, one line each
+        (collective under MPI): a magnetic field through a reflecting wall, then
+        every module's (``Module.advice``)."""
+        return self._wall_field_advice() + [line for mod in self.modules
+                                            for line in mod.advice(self)]
+
+    def _wall_field_advice(self) -> list[str]:
+        # a reflecting wall mirrors the normal field odd: it must be a wall the field
+        # runs along; a normal field through it breaks energy conservation
+        if not self.varmap.mhd:
+            return []
+        m, st, W = self.mesh, self.state, self.integrator.W
+        sl = (slice(m.js, m.je), slice(m.is_, m.ie))
+        bmax = self.global_max(float(np.sqrt(W[5][sl] ** 2 + W[6][sl] ** 2
+                                             + W[7][sl] ** 2).max()))
+        walls = {"x1_lo": st.b1[m.js:m.je, m.is_], "x1_hi": st.b1[m.js:m.je, m.ie],
+                 "x2_lo": st.b2[m.js, m.is_:m.ie], "x2_hi": st.b2[m.je, m.is_:m.ie]}
+        out = []
+        for edge, faces in walls.items():
+            if self._edge_kinds.get(edge) != "reflecting":
+                continue
+            local = self.boundaries.edges[edge][0] == "reflecting"
+            bn = self.global_max(float(np.abs(faces).max()) if local else 0.0)
+            if bmax > 0.0 and bn > 1e-6 * bmax:
+                out.append(f"edges.{self._edge_names[edge]} = reflecting: the magnetic field "
+                           f"crosses this wall (largest |B_n| on it {100 * bn / bmax:.3g} % "
+                           "of the largest |B|); a reflecting wall keeps the field along it "
+                           "(normal field mirrored odd), so total energy is not conserved "
+                           "there; use an outflow edge or a field parallel to the wall")
+        return out
 
     def global_sum(self, value):
         """Sum of a float or float array over the ranks (the value itself in serial).

@@ -156,7 +156,8 @@ class Module:
         """Warnings about the module's parameters for the current (initial) state,
         one line each, naming the key and what would be safer (e.g. a reduced
         speed too small for the flow).  Printed by ``wind2d check`` and logged
-        when a fresh run starts.  Collective under MPI (use ``sim.global_max``)."""
+        when a fresh run starts (``Simulation.advice``).  Collective under MPI
+        (use ``sim.global_max``)."""
         return []
 
     # ---------------------------------------------------------------- output
