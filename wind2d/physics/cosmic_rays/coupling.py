@@ -180,7 +180,6 @@ def pow43(s):
     return y, ok, ok & (abs(t) < _SAFE * ulp)
 
 
-
 @njit(cache=True, error_model="numpy", inline="always")
 def update_row(W, U0, U, F1, F2, j, dt, ia, ib, f1, flo, fhi, tb, R, acc, iE, gamma_c, vm,
                d_perp, feedback, iso, e_floor, tight, area1, rvol1, vol1, dx2):
