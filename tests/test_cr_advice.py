@@ -51,7 +51,7 @@ def test_advice_on_the_diffusion_speed_uses_the_smaller_extent():
     assert len(lines) == 1 and "7.5 times the diffusion speed kappa / L" in lines[0]
 
 
-def test_check_prints_the_advice(tmp_path, capsys):
+def test_check_prints_the_advice(capsys):
     rc = main(["check", "problems/wind/streaming_lowres.yaml",
                "--set", "physics.cosmic_rays.max_speed=30 km/s"])
     out = capsys.readouterr().out

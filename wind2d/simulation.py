@@ -29,7 +29,7 @@ from .core.reconstruct import LIMITERS, METHODS
 from .core.riemann import GAS_ONLY, IDEAL_ONLY, MHD_ONLY, SOLVERS
 from .errors import NonFiniteStateError, ParameterError
 from .grid.mesh import Mesh
-from .state import IDN, IPR, IB1, IB2, VariableMap, State
+from .state import IDN, IPR, IB1, IB2, IB3, VariableMap, State
 
 
 def _overrides(module, hook: str) -> bool:
@@ -432,8 +432,8 @@ class Simulation:
             return []
         m, st, W = self.mesh, self.state, self.integrator.W
         sl = (slice(m.js, m.je), slice(m.is_, m.ie))
-        bmax = self.global_max(float(np.sqrt(W[5][sl] ** 2 + W[6][sl] ** 2
-                                             + W[7][sl] ** 2).max()))
+        bmax = self.global_max(float(np.sqrt(W[IB1][sl] ** 2 + W[IB2][sl] ** 2
+                                             + W[IB3][sl] ** 2).max()))
         walls = {"x1_lo": st.b1[m.js:m.je, m.is_], "x1_hi": st.b1[m.js:m.je, m.ie],
                  "x2_lo": st.b2[m.js, m.is_:m.ie], "x2_hi": st.b2[m.je, m.is_:m.ie]}
         out = []

@@ -68,7 +68,7 @@ from ...core.reconstruct.plm import G_IDC
 from ...errors import ParameterError
 from ...problem.schema import Q, Strict
 from ...problem.units import M_H_CGS, UnitSystem
-from ...state import IV1, IV2, IV3
+from ...state import IB1, IB2, IB3, IDN, IPR, IV1, IV2, IV3
 from ..base import ORDER_TRANSPORT, Module, Variable
 from ..registry import register
 from .losses import apply_losses
@@ -368,12 +368,12 @@ class CosmicRays(Module):
             return []
         m, W = sim.mesh, sim.integrator.W
         sl = (slice(m.js, m.je), slice(m.is_, m.ie))
-        rho = W[0][sl]
+        rho = W[IDN][sl]
         g = 1.0 if sim.eos.isothermal else sim.eos.gamma
-        c2 = g * W[4][sl]
+        c2 = g * W[IPR][sl]
         if self.mhd:
-            c2 = c2 + W[5][sl] ** 2 + W[6][sl] ** 2 + W[7][sl] ** 2
-        speed = np.sqrt(W[1][sl] ** 2 + W[2][sl] ** 2) + np.sqrt(c2 / rho)
+            c2 = c2 + W[IB1][sl] ** 2 + W[IB2][sl] ** 2 + W[IB3][sl] ** 2
+        speed = np.sqrt(W[IV1][sl] ** 2 + W[IV2][sl] ** 2) + np.sqrt(c2 / rho)
         vgas = sim.global_max(float(speed.max()) if speed.size else 0.0)
         gm = sim.global_mesh
         L = min(gm.x1f[gm.ie] - gm.x1f[gm.is_], gm.x2f[gm.je] - gm.x2f[gm.js])

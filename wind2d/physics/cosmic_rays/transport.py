@@ -253,8 +253,8 @@ def cell_row(W, V, j, n, iE, iF1, iF2, gamma_c, ft):
 
 @njit(cache=True, error_model="numpy", inline="always")
 def _slopes_x(x, k0, k1, geo, limiter, S, v):
-    # limited slopes along a row x[k], k0 <= k < k1, into S[v, k]; one loop per
-    # limiter so that the loop body has no branch
+    # limited slopes along a row x[k], k0 <= k < k1, into S[v, k] (limiter 1-3: first
+    # order takes no slopes); one loop per limiter so that the loop body has no branch
     if limiter == 1:
         for k in range(k0, k1):
             S[v, k] = limited_slope(x[k - ONE], x[k], x[k + ONE], geo[G_IDL, k],
@@ -267,14 +267,12 @@ def _slopes_x(x, k0, k1, geo, limiter, S, v):
         for k in range(k0, k1):
             S[v, k] = limited_slope(x[k - ONE], x[k], x[k + ONE], geo[G_IDL, k],
                                     geo[G_IDR, k], geo[G_IDC, k], geo[G_CL, k], geo[G_CR, k], 3)
-    else:
-        for k in range(k0, k1):
-            S[v, k] = 0.0
 
 
 @njit(cache=True, error_model="numpy", inline="always")
 def _slopes_y(xm, x0, xp, i0, i1, idl, idr, idc, cl, cr, limiter, S, v):
     # limited slopes across rows (xm below, x0, xp above), i0 <= i < i1, into S[v, i]
+    # (limiter 1-3)
     if limiter == 1:
         for i in range(i0, i1):
             S[v, i] = limited_slope(xm[i], x0[i], xp[i], idl, idr, idc, cl, cr, 1)
@@ -284,9 +282,6 @@ def _slopes_y(xm, x0, xp, i0, i1, idl, idr, idc, cl, cr, limiter, S, v):
     elif limiter == 3:
         for i in range(i0, i1):
             S[v, i] = limited_slope(xm[i], x0[i], xp[i], idl, idr, idc, cl, cr, 3)
-    else:
-        for i in range(i0, i1):
-            S[v, i] = 0.0
 
 
 @njit(cache=True, error_model="numpy", inline="always")
@@ -312,18 +307,15 @@ def _face(e0, f0, g0, h0, s0, e1, f1, g1, h1, s1, le, lf, lg, lh, ls, re, rf, rg
     hR = h1 + o * rh * dfl
     sL = s0 + ls * dfr
     sR = s1 + rs * dfl
-    up = m >= 0.0
-    adv = m * (hL if up else hR)
-    ent = m * (sL if up else sR)
-    fe = adv + 0.5 * (gL + gR) - 0.5 * S * (ER - EL)
-    ff = vm2c * (0.5 * (EL + ER)) - 0.5 * S * (FR - FL)
-    return fe, adv, ff, ent
+    return _face_first(EL, FL, gL, hL, sL, ER, FR, gR, hR, sR, m, S, vm2c)
 
 
 @njit(cache=True, error_model="numpy", inline="always")
 def _face_first(e0, f0, g0, h0, s0, e1, f1, g1, h1, s1, m, S, vm2c):
-    """:func:`_face` without slopes (first order): the same values as ``_face``
-    with zero slopes, without the work on them."""
+    """Fluxes of one face from the face values either side (``e`` E_c, ``f``
+    F_n, ``g`` comoving flux, ``h`` specific enthalpy, ``s`` specific entropy;
+    the cell values themselves at first order, no slopes): flux of E_c, its
+    advective part, flux of F_n, entropy flux."""
     up = m >= 0.0
     adv = m * (h0 if up else h1)
     ent = m * (s0 if up else s1)
